@@ -1,0 +1,137 @@
+"""Shared checks and normal-distribution helpers for the statistics core."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from scipy import special
+
+ALTERNATIVES = ("two-sided", "greater", "less")
+MAX_TRIALS = 10**12
+LOG10_E = math.log10(math.e)
+
+
+def check_alternative(alternative: str) -> str:
+    """Return ``alternative`` if it is one of the three known ones, else raise ValueError."""
+    if alternative not in ALTERNATIVES:
+        raise ValueError(f'alternative "{alternative}" not recognized; use two-sided, greater or less')
+    return alternative
+
+
+def check_alpha(alpha: float) -> float:
+    """Return ``alpha`` as float if it lies in (0, 0.5]."""
+    alpha = float(alpha)
+    if not (0.0 < alpha <= 0.5):
+        raise ValueError(f"alpha must be in (0, 0.5], got {alpha}")
+    return alpha
+
+
+def check_confidence(confidence: float) -> float:
+    """Return ``confidence`` as float if it lies in (0, 1)."""
+    confidence = float(confidence)
+    if not (0.0 < confidence < 1.0):
+        raise ValueError(f"confidence must be in (0, 1), got {confidence}")
+    return confidence
+
+
+def check_method(method: str, known: Sequence[str], what: str = "method") -> str:
+    """Raise a ValueError naming the known choices when ``method`` is not one of them."""
+    if method not in known:
+        raise ValueError(f'{what} "{method}" not recognized; use one of: {", ".join(known)}')
+    return method
+
+
+def as_counts(successes, trials, name: str = "group") -> tuple[np.ndarray, np.ndarray]:
+    """Validate success/trial counts and return them as 1-d float64 arrays.
+
+    Counts must be integers (booleans are refused) with ``0 <= successes <= trials`` and
+    ``1 <= trials <= 10**12``; float64 holds every such integer exactly.
+    """
+    xs = np.atleast_1d(np.asarray(successes))
+    ns = np.atleast_1d(np.asarray(trials))
+    for arr, part in ((xs, "successes"), (ns, "trials")):
+        if arr.dtype == bool or not (np.issubdtype(arr.dtype, np.integer) or _integral_floats(arr)):
+            raise ValueError(f"{name}.{part} must be whole numbers")
+    if xs.shape != ns.shape:
+        raise ValueError(f"{name}.successes and {name}.trials must have the same length")
+    x = xs.astype(np.float64)
+    n = ns.astype(np.float64)
+    if np.any(n < 1) or np.any(n > MAX_TRIALS):
+        raise ValueError(f"{name}.trials must be between 1 and 10**12")
+    if np.any(x < 0):
+        raise ValueError(f"{name}.successes must not be negative")
+    if np.any(x > n):
+        raise ValueError(f"{name}.successes must not exceed {name}.trials")
+    return x, n
+
+
+def _integral_floats(arr: np.ndarray) -> bool:
+    return bool(np.issubdtype(arr.dtype, np.floating) and np.all(np.isfinite(arr)) and np.all(arr == np.round(arr)))
+
+
+def z_two_sided(confidence: float) -> float:
+    """Return the standard normal quantile leaving (1 - confidence)/2 in each tail."""
+    return float(special.ndtri(0.5 + confidence / 2.0))
+
+
+def z_one_sided(confidence: float) -> float:
+    """Return the standard normal quantile leaving 1 - confidence in the upper tail."""
+    return float(special.ndtri(confidence))
+
+
+def normal_p_value(z: np.ndarray, alternative: str) -> tuple[np.ndarray, np.ndarray]:
+    """Return (p, log10 p) for standard normal statistics ``z``.
+
+    The log is computed from ``log_ndtr`` so it stays finite where ``p`` itself underflows
+    (|z| beyond about 38). NaN statistics give NaN in both.
+    """
+    z = np.asarray(z, dtype=np.float64)
+    if alternative == "greater":
+        log_p = special.log_ndtr(-z)
+    elif alternative == "less":
+        log_p = special.log_ndtr(z)
+    else:
+        log_p = np.minimum(math.log(2.0) + special.log_ndtr(-np.abs(z)), 0.0)
+    return np.exp(log_p), log_p * LOG10_E
+
+
+def chi2_1df_p_value(stat: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return (p, log10 p) of a chi-square statistic on one degree of freedom."""
+    stat = np.asarray(stat, dtype=np.float64)
+    # P(chi2_1 > s) = P(|Z| > sqrt(s)): reuse the normal tail for an underflow-free log.
+    return normal_p_value(np.sqrt(np.maximum(stat, 0.0)), "two-sided")
+
+
+def bisect_decreasing(f, lo: np.ndarray, hi: np.ndarray, iterations: int = 64) -> np.ndarray:
+    """Find, elementwise, the point where a decreasing ``f`` crosses zero in ``[lo, hi]``.
+
+    ``f(lo) >= 0 >= f(hi)`` is assumed. 64 halvings shrink any bracket of width up to 2**10 below
+    float64 resolution, so the answer is as exact as ``f`` itself.
+    """
+    lo = np.array(lo, dtype=np.float64, copy=True)
+    hi = np.array(hi, dtype=np.float64, copy=True)
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi)
+        with np.errstate(invalid="ignore"):
+            positive = f(mid) >= 0.0
+        lo = np.where(positive, mid, lo)
+        hi = np.where(positive, hi, mid)
+    return 0.5 * (lo + hi)
+
+
+def percent(p: float, digits: int = 1) -> str:
+    """Format a rate in [0, 1] as a percentage string."""
+    return f"{100.0 * p:.{digits}f}%"
+
+
+def significant_digits(x: float, digits: int = 3) -> str:
+    """Format a number with a few significant digits, without scientific notation for moderate values."""
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g}"
+    magnitude = math.floor(math.log10(abs(x)))
+    if -5 <= magnitude < 9:
+        decimals = max(digits - 1 - magnitude, 0)
+        return f"{x:,.{decimals}f}"
+    return f"{x:.{digits - 1}e}"
