@@ -165,7 +165,8 @@ def check_options(
         )
     if method == "chi-square" and alternative != "two-sided":
         raise ValueError(
-            'method "chi-square" is two-sided only; for alternative greater or less use z-pooled (its square is the same statistic)'
+            'method "chi-square" is two-sided only; for alternative greater or less use z-pooled '
+            "(its square is the same statistic)"
         )
     if continuity_correction and method not in ("auto", "z-pooled", "z-unpooled", "chi-square"):
         raise ValueError(f'continuity_correction applies to z-pooled, z-unpooled and chi-square, not "{method}"')
@@ -438,7 +439,9 @@ def _warnings(opts: Options, method, x1, n1, x2, n2, min_expected, stat, p) -> l
     elif opts.effect != "ratio" and x2 == 0 and x1 > 0:
         notes.append("the relative lift is undefined: the control group has no successes")
     if opts.continuity_correction and method in ("z-pooled", "chi-square"):
-        notes.append("the reported interval is not continuity-corrected, so it may disagree with the test near the edge")
+        notes.append(
+            "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
+        )
     if not np.isnan(p) and p == 0.0:
         notes.append("the p-value is below the smallest positive double; see log10_p_value")
     return notes
@@ -455,12 +458,13 @@ def _format_effect(effect: str, value: float | None, signed: bool = True) -> str
 
 def _with_summary(r: TestResult) -> TestResult:
     e = r.estimate
-    conf = percent(r.interval.confidence, 0 if abs(r.interval.confidence * 100 - round(r.interval.confidence * 100)) < 1e-9 else 1)
+    conf = _level(r.interval.confidence)
     if r.effect == "difference":
         effect_text = f"a difference of {_format_effect('difference', e.difference)} percentage points"
         unit = " points"
     elif r.effect == "ratio":
-        effect_text = "a ratio of " + ("undefined" if e.relative_lift is None else significant_digits(e.relative_lift + 1))
+        ratio = None if e.relative_lift is None else e.relative_lift + 1.0
+        effect_text = "a ratio of " + ("undefined" if ratio is None else significant_digits(ratio))
         unit = ""
     else:
         effect_text = "an odds ratio of " + ("undefined" if e.odds_ratio is None else significant_digits(e.odds_ratio))
@@ -476,7 +480,7 @@ def _with_summary(r: TestResult) -> TestResult:
     head = (
         f"Treatment {percent(e.treatment_rate, 2)} vs control {percent(e.control_rate, 2)}: {effect_text} ({bounds})"
     )
-    level = percent(r.alpha, 0 if abs(r.alpha * 100 - round(r.alpha * 100)) < 1e-9 else 1)
+    level = _level(r.alpha)
     if r.p_value is None:
         verdict = f"the {METHOD_NAMES[r.method]} is undefined for these counts"
     else:
@@ -488,6 +492,11 @@ def _with_summary(r: TestResult) -> TestResult:
             verdict = f"p = {p_text}, so the data do not show {null_text} at the {level} level"
     text = f"{head}; {verdict} ({METHOD_NAMES[r.method]})."
     return TestResult(**{**{f: getattr(r, f) for f in TestResult.__slots__}, "summary": text})
+
+
+def _level(fraction: float) -> str:
+    """Format 0.95 as "95%" and 0.975 as "97.5%"."""
+    return percent(fraction, 0 if abs(fraction * 100 - round(fraction * 100)) < 1e-9 else 1)
 
 
 def _null_text(r: TestResult) -> str:
