@@ -198,27 +198,51 @@ def _product(factors: list[int]) -> int:
 # -------------------------------------------------------------------------- Fisher test
 
 
-def _hypergeometric_log_ratios(n1: int, n2: int, s: int) -> tuple[int, np.ndarray]:
+def _hypergeometric_log_ratios(n1: int, n2: int, s: int, x: int) -> tuple[int, np.ndarray]:
     """Return ``lo`` and ``log[pmf(k) / pmf(mode)]`` for ``k = lo..hi``.
 
     ``k`` is the number of successes in group 1 given ``s`` successes in all. The ratios
     are accumulated outward from the mode from ``log1p`` of exact integer step ratios,
     in extended precision, so their relative error stays near 1e-16 times ``|log ratio|``.
+
+    Only a window around the mode and ``x`` is returned, wide enough that the mass left
+    out on each side is below ``e^-60`` times both ``pmf(x)`` and ``pmf(mode)``: the pmf is
+    log-concave, so beyond an edge the terms fall at least geometrically with the edge's
+    step ratio, which bounds the omitted mass.
     """
     n = n1 + n2
-    lo, hi = max(0, s - n2), min(n1, s)
-    mode = min(max((s + 1) * (n1 + 1) // (n + 2), lo), hi)
-    j = np.arange(lo, hi, dtype=np.int64)
-    up = (n1 - j) * (s - j)
-    down = (j + 1) * (n2 - s + j + 1)
-    step = np.log1p((up - down).astype(np.float64) / down.astype(np.float64))
-    log_ratio = np.empty(hi - lo + 1)
-    m = mode - lo
-    log_ratio[m] = 0.0
-    log_ratio[m + 1 :] = np.cumsum(step[m:], dtype=np.longdouble)
-    if m > 0:
-        log_ratio[:m] = -np.cumsum(step[:m][::-1], dtype=np.longdouble)[::-1]
-    return lo, log_ratio
+    support_lo, support_hi = max(0, s - n2), min(n1, s)
+    mode = min(max((s + 1) * (n1 + 1) // (n + 2), support_lo), support_hi)
+    var = s * n1 * n2 * (n - s) / (n * n * max(n - 1, 1))
+    half_width = int(12.0 * math.sqrt(var)) + 32
+    while True:
+        lo = max(support_lo, min(mode, x) - half_width)
+        hi = min(support_hi, max(mode, x) + half_width)
+        # Steps j -> j + 1 for j in [lo - 1, hi] where those stay in the support, so
+        # that the step just beyond each edge is known for the bound below.
+        j = np.arange(max(lo - 1, support_lo), min(hi + 1, support_hi), dtype=np.int64)
+        up = (n1 - j) * (s - j)
+        down = (j + 1) * (n2 - s + j + 1)
+        step = np.log1p((up - down).astype(np.float64) / down.astype(np.float64))
+        offset = lo - int(j[0]) if j.size else 0  # index in `step` of the step lo -> lo + 1
+        log_ratio = np.empty(hi - lo + 1)
+        m = mode - lo
+        log_ratio[m] = 0.0
+        inner = step[offset : offset + hi - lo]
+        log_ratio[m + 1 :] = np.cumsum(inner[m:], dtype=np.longdouble)
+        if m > 0:
+            log_ratio[:m] = -np.cumsum(inner[:m][::-1], dtype=np.longdouble)[::-1]
+        floor = min(0.0, float(log_ratio[x - lo])) - 60.0
+        ok = True
+        if lo > support_lo:
+            ratio = -float(step[offset - 1])  # log pmf(lo - 1) / pmf(lo) < 0
+            ok &= log_ratio[0] + ratio - math.log(-math.expm1(ratio)) < floor
+        if hi < support_hi:
+            ratio = float(step[offset + hi - lo])  # log pmf(hi + 1) / pmf(hi) < 0
+            ok &= log_ratio[-1] + ratio - math.log(-math.expm1(ratio)) < floor
+        if ok or (lo == support_lo and hi == support_hi):
+            return lo, log_ratio
+        half_width *= 4
 
 
 def _exact_pmf_ratio(n1: int, n2: int, s: int, k_from: int, k_to: int) -> tuple[int, int]:
@@ -277,7 +301,7 @@ def fisher_exact(x_t: int, n_t: int, x_c: int, n_c: int, alternative: str = "two
     odds_ratio = None if odds_den == 0 else x_t * (n_c - x_c) / odds_den
 
     s = x_t + x_c
-    lo, log_ratio = _hypergeometric_log_ratios(n_t, n_c, s)
+    lo, log_ratio = _hypergeometric_log_ratios(n_t, n_c, s, x_t)
     i = x_t - lo
     log_total = _log_sum_exp(log_ratio)
     if alternative == "greater":
@@ -581,35 +605,32 @@ def _finish(log_c: np.ndarray, count: int, n1: int, n2: int, pooled_pi: float) -
 # -------------------------------------------------------------------------- Boschloo
 
 
-class _ExactRows:
-    """Exact integer terms ``C(n1, a) C(n2, s - a)`` of anti-diagonals, cached per ``s``."""
+def _exact_fisher_tail(n1: int, n2: int, s: int, a: int, upper: bool) -> tuple[int, int]:
+    """Return Fisher's one-sided p-value of table ``(a, s - a)`` as an exact fraction.
 
-    def __init__(self, n1: int, n2: int) -> None:
-        self.n1, self.n2 = n1, n2
-        self._rows: dict[int, tuple[int, list[int], int]] = {}
-
-    def row(self, s: int) -> tuple[int, list[int], int]:
-        """Return ``lo``, the terms for ``a = lo..hi`` and their sum ``C(n1 + n2, s)``."""
-        if s not in self._rows:
-            n1, n2 = self.n1, self.n2
-            lo, hi = max(0, s - n2), min(n1, s)
-            term = math.comb(n1, lo) * math.comb(n2, s - lo)
-            terms = [term]
-            for a in range(lo, hi):
-                term = term * (n1 - a) * (s - a) // ((a + 1) * (n2 - s + a + 1))
-                terms.append(term)
-            self._rows[s] = (lo, terms, math.comb(n1 + n2, s))
-        return self._rows[s]
-
-    def fisher_tail(self, s: int, a: int, upper: bool) -> tuple[int, int]:
-        """Return Fisher's one-sided p-value of table ``(a, s - a)`` as a fraction."""
-        lo, terms, total = self.row(s)
-        tail = sum(terms[a - lo :]) if upper else sum(terms[: a - lo + 1])
-        return tail, total
+    The numerator is ``sum C(n1, a') C(n2, s - a')`` over ``a' >= a`` (``upper``) or
+    ``a' <= a``, the denominator ``C(n1 + n2, s)``. Only the shorter of the tail and its
+    complement is summed, by an exact integer recurrence.
+    """
+    lo, hi = max(0, s - n2), min(n1, s)
+    total = math.comb(n1 + n2, s)
+    # The requested tail and its complement, as ranges of a'.
+    first, last = (a, hi) if upper else (lo, a)
+    other = (lo, a - 1) if upper else (a + 1, hi)
+    use_other = other[1] - other[0] < last - first
+    start, stop = other if use_other else (first, last)
+    acc = 0
+    if stop >= start:
+        term = math.comb(n1, start) * math.comb(n2, s - start)
+        acc = term
+        for k in range(start, stop):
+            term = term * (n1 - k) * (s - k) // ((k + 1) * (n2 - s + k + 1))
+            acc += term
+    return (total - acc if use_other else acc), total
 
 
 def _boschloo_side(
-    rows: _ExactRows, a0: int, s0: int, upper: bool
+    n1: int, n2: int, a0: int, s0: int, upper: bool
 ) -> tuple[float, _Classifier | None, Callable[[int, int], bool]]:
     """Prepare one side of Boschloo's test.
 
@@ -618,12 +639,29 @@ def _boschloo_side(
     ``f <= f0 (1 + 1e-13)``. Returns ``f0``, a classifier (None when every table is as
     extreme) and the exact membership test.
     """
-    f0_num, f0_den = rows.fisher_tail(s0, a0, upper)
+    f0_num, f0_den = _exact_fisher_tail(n1, n2, s0, a0, upper)
     f0 = f0_num / f0_den
     slack = _BOSCHLOO_SLACK_DENOMINATOR
+    n = n1 + n2
+    half = 2 * f0_num == f0_den
+
+    def known_tie(s: int, a: int) -> bool:
+        """Ties that symmetry proves without arithmetic (equal group sizes only)."""
+        if n1 != n2:
+            return False
+        # Swapping groups and outcomes maps (a, s) to (n1 - (s - a), N - s), same f.
+        if (s, a) == (n - s0, n1 - (s0 - a0)):
+            return True
+        # Given an odd s the distribution is symmetric about s / 2, so the tail beyond
+        # the centre is exactly 1/2.
+        if not half or s % 2 == 0:
+            return False
+        return a == ((s + 1) // 2 if upper else (s - 1) // 2)
 
     def exact_member(s: int, a: int) -> bool:
-        tail, total = rows.fisher_tail(s, a, upper)
+        if known_tie(s, a):
+            return True
+        tail, total = _exact_fisher_tail(n1, n2, s, a, upper)
         return tail * f0_den * slack <= f0_num * total * (slack + 1)
 
     threshold_num = f0_num * (slack + 1)  # f <= threshold_num / (f0_den * slack)
@@ -737,11 +775,10 @@ def boschloo_exact(x_t: int, n_t: int, x_c: int, n_c: int, alternative: str = "t
     pooled = s0 / (n_t + n_c)
     wanted = ["greater", "less"] if alternative == "two-sided" else [alternative]
 
-    rows = _ExactRows(n1, n2)
     sides = {}
     for side in wanted:
         upper = (side == "greater") == treatment_first
-        sides[side] = _boschloo_side(rows, a0, s0, upper)
+        sides[side] = _boschloo_side(n1, n2, a0, s0, upper)
     active = [side for side in wanted if sides[side][1] is not None]
     results = (
         _region_log_coefficients(

@@ -1,8 +1,8 @@
-"""What each endpoint does with a validated request, free of Flask so the CLI can run it in-process."""
+"""Operations of /v1/tests and /v1/intervals."""
 
 from __future__ import annotations
 
-from .stats import intervals, twogroup
+from ..stats import intervals, twogroup
 
 
 def run_tests(items: list[dict]) -> list[twogroup.TestResult]:
