@@ -27,10 +27,11 @@ import warnings
 
 import numpy as np
 import pytest
-from proportio.stats import score
-from scipy.optimize import minimize_scalar
+from scipy.optimize import brentq, minimize_scalar
 from scipy.special import expit, xlog1py, xlogy
 from statsmodels.stats.proportion import proportions_ztest, score_test_proportions_2indep
+
+from proportio.stats import score
 
 EFFECTS = ("difference", "ratio", "odds-ratio")
 SM_COMPARE = {"difference": "diff", "ratio": "ratio", "odds-ratio": "odds-ratio"}
@@ -81,7 +82,10 @@ def brute_force_restricted(x1, n1, x2, n2, effect: str, value: float):
     c = first.x
     h = 1e-5 * max(1.0, abs(c))
     second = minimize_scalar(
-        lambda s: f(c + s), bounds=(max(lo - c, -h), min(hi - c, h)), method="bounded", options={"xatol": 1e-15}
+        lambda s: f(c + s),
+        bounds=(max(lo - c, -h), min(hi - c, h)),
+        method="bounded",
+        options={"xatol": 1e-15},
     )
     best = c + second.x if second.fun <= first.fun else c
     return rates(best), min(first.fun, second.fun)
@@ -195,7 +199,9 @@ def test_score_statistic_matches_statsmodels_difference_where_its_cubic_is_right
     rng = np.random.default_rng(23)
     x1s, n1s, x2s, n2s = random_tables(rng, 1200)
     compared = 0
-    for i, (x1, n1, x2, n2) in enumerate(zip(x1s.tolist(), n1s.tolist(), x2s.tolist(), n2s.tolist(), strict=True)):
+    for i, (x1, n1, x2, n2) in enumerate(
+        zip(x1s.tolist(), n1s.tolist(), x2s.tolist(), n2s.tolist(), strict=True)
+    ):
         correction = bool(i % 2)
         if i % 3 == 0:
             value = 0.0
@@ -284,7 +290,9 @@ def test_miettinen_nurminen_factor(effect):
     finite = np.isfinite(z_mn)
     assert finite.sum() > 1500
     big_n = n1 + n2
-    np.testing.assert_allclose(z_fm[finite] ** 2, z_mn[finite] ** 2 * big_n[finite] / (big_n[finite] - 1), rtol=1e-12)
+    np.testing.assert_allclose(
+        z_fm[finite] ** 2, z_mn[finite] ** 2 * big_n[finite] / (big_n[finite] - 1), rtol=1e-12
+    )
     # Same sign, and the infinities coincide.
     assert np.array_equal(np.sign(z_mn), np.sign(z_fm))
     assert np.array_equal(np.isinf(z_mn), np.isinf(z_fm))
@@ -321,7 +329,9 @@ def test_farrington_manning_at_no_effect_is_the_pooled_z(effect):
         if x1 + x2 in (0, n1 + n2):
             continue  # pooled rate 0 or 1: statsmodels divides by zero
         ref, _ = proportions_ztest([x1, x2], [n1, n2])
-        z = float(score.score_statistic(*f64(x1, n1, x2, n2), score.NO_EFFECT[effect], effect, correction=False))
+        z = float(
+            score.score_statistic(*f64(x1, n1, x2, n2), score.NO_EFFECT[effect], effect, correction=False)
+        )
         assert z == pytest.approx(ref, rel=1e-9, abs=1e-12), (x1, n1, x2, n2)
         compared += 1
     assert compared > 1500
@@ -334,12 +344,25 @@ def test_farrington_manning_at_no_effect_is_the_pooled_z(effect):
 def test_statistic_is_never_nan(effect):
     # Documented contract of score_statistic: 0 where the data sit at the hypothesised value with a
     # zero restricted variance, +-inf otherwise; never NaN.
-    tables = [(0, 1, 0, 1), (1, 1, 1, 1), (0, 1, 1, 1), (1, 1, 0, 1), (0, 10, 0, 20), (10, 10, 20, 20),
-              (10, 10, 0, 20), (0, 10, 20, 20), (0, 10**12, 0, 10**12), (10**12, 10**12, 5, 10**12),
-              (5 * 10**11, 10**12, 4 * 10**11, 10**12), (3, 7, 3, 7)]
-    values = {"difference": [-0.999, -0.5, 0.0, 0.3, 0.999],
-              "ratio": [1e-6, 0.5, 1.0, 2.0, 1e6],
-              "odds-ratio": [1e-6, 0.5, 1.0, 2.0, 1e6]}[effect]
+    tables = [
+        (0, 1, 0, 1),
+        (1, 1, 1, 1),
+        (0, 1, 1, 1),
+        (1, 1, 0, 1),
+        (0, 10, 0, 20),
+        (10, 10, 20, 20),
+        (10, 10, 0, 20),
+        (0, 10, 20, 20),
+        (0, 10**12, 0, 10**12),
+        (10**12, 10**12, 5, 10**12),
+        (5 * 10**11, 10**12, 4 * 10**11, 10**12),
+        (3, 7, 3, 7),
+    ]
+    values = {
+        "difference": [-0.999, -0.5, 0.0, 0.3, 0.999],
+        "ratio": [1e-6, 0.5, 1.0, 2.0, 1e6],
+        "odds-ratio": [1e-6, 0.5, 1.0, 2.0, 1e6],
+    }[effect]
     for x1, n1, x2, n2 in tables:
         for v in values:
             for correction in (True, False):
@@ -351,15 +374,9 @@ def test_statistic_is_never_nan(effect):
         assert float(z) == 0.0
 
 
-# ------------------------------------------------------------------- known defects (xfail, strict)
+# ------------------------------------------------------------------- fixed defects (regression tests)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="score_statistic treats |num| <= 1e-15 * max(1, value) as a zero numerator; for an odds ratio "
-    "near e^40 (1e-15 * value ~ 235) the count-scale numerator x1 - n1*q1 = -15 counts as zero and the "
-    "statistic becomes 0 instead of a large negative value",
-)
 def test_odds_ratio_statistic_far_above_the_data_is_large_and_negative():
     # Treatment 19/34, control 22/46: the sample odds ratio is 1.38. At a hypothesised odds ratio of
     # e^40 the data lie far below it, so the statistic must be strongly negative; it is -1.6e2 at
@@ -370,12 +387,6 @@ def test_odds_ratio_statistic_far_above_the_data_is_large_and_negative():
     assert float(score.score_statistic(*a, math.exp(40.0), "odds-ratio")) < -1.96
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="with a control of only successes the restricted control rate rounds to 1 for odds ratios "
-    "below about e^-37; the numerator x1 - n1*q1 is then rounding noise (~1e-14) that exceeds the "
-    "1e-15 zero threshold, so the statistic flips between +inf and -inf instead of tending to 0",
-)
 def test_odds_ratio_statistic_tends_to_zero_when_control_has_only_successes():
     # Treatment 179/283, control 160/160: the sample odds ratio is 0 and the statistic rises
     # monotonically towards 0 as the hypothesised odds ratio falls (-4.4e-4 at e^-20, -3.0e-6 at
@@ -386,3 +397,63 @@ def test_odds_ratio_statistic_tends_to_zero_when_control_has_only_successes():
     for log_psi in (-40.0, -46.0, -60.0, -70.0):
         z = float(score.score_statistic(*a, math.exp(log_psi), "odds-ratio"))
         assert z30 - 1e-12 <= z <= 0.0, log_psi
+
+
+def _restricted_difference_reference(x1, n1, x2, n2, d):
+    """Restricted MLE under p1 - p2 = d from the score equation of the constrained likelihood
+    (scipy.optimize.brentq; the likelihood is concave in p2, so the derivative changes sign once)."""
+
+    def g(p2):
+        p1 = p2 + d
+        return (
+            (x1 / p1 if x1 else 0.0)
+            - ((n1 - x1) / (1 - p1) if n1 > x1 else 0.0)
+            + (x2 / p2 if x2 else 0.0)
+            - ((n2 - x2) / (1 - p2) if n2 > x2 else 0.0)
+        )
+
+    lo, hi = max(0.0, -d), min(1.0, 1.0 - d)
+    a, b = (lo * (1 + 1e-14) if lo > 0 else 1e-300), hi - 1e-15
+    if g(a) <= 0:
+        return a + d, a
+    if g(b) >= 0:
+        return b + d, b
+    p2 = brentq(g, a, b, xtol=1e-300, rtol=1e-15, maxiter=500)
+    return p2 + d, p2
+
+
+# Regression: rare events in huge groups once defeated the closed-form restricted MLE (fixed by
+# Newton polishing with a bracketed fallback in score._difference_root).
+
+
+def _rare(table, d):
+    return pytest.param(table, d)
+
+
+@pytest.mark.parametrize(
+    ("table", "d"),
+    [
+        ((5, 10**8, 1, 10**8), -1e-8),
+        ((5, 10**8, 1, 10**8), 1e-7),
+        ((3, 10**12, 0, 10**12), -1e-10),
+        ((5, 10**7, 1, 10**7), -1e-7),
+        _rare((5, 10**9, 1, 10**9), -1e-9),
+        _rare((3, 10**12, 0, 10**12), -8.414588206870484e-13),
+        _rare((3, 10**12, 0, 10**12), 8.821188092293657e-12),
+        _rare((10**9 - 5, 10**9, 10**9 - 1, 10**9), 1.1278009411968803e-09),
+    ],
+)
+def test_restricted_difference_rates_for_rare_events(table, d):
+    # Reference: the score equation of the constrained likelihood solved by brentq; 1e-6 relative on each
+    # rate and on its complement (the small one of the two carries the information near 1).
+    ref1, ref2 = _restricted_difference_reference(*table, d)
+    q1, q2, c1, c2 = score.restricted_rates_difference_full(*f64(*table), d)
+    assert float(q1) == pytest.approx(ref1, rel=1e-6, abs=1e-300)
+    assert float(q2) == pytest.approx(ref2, rel=1e-6, abs=1e-300)
+    if ref1 > 0.5:
+        # Complements recomputed from the reference's own p2 offset to keep their relative precision.
+        assert float(c1) == pytest.approx(1.0 - ref1, rel=1e-6)
+        assert float(c2) == pytest.approx(1.0 - ref2, rel=1e-6)
+    # The likelihood at our rates is never below the reference's (beyond rounding).
+    ours = neg_log_likelihood(*table, float(q1), float(q2))
+    assert ours <= neg_log_likelihood(*table, ref1, ref2) + 1e-9 * (1.0 + abs(ours))

@@ -121,6 +121,52 @@ def bisect_decreasing(f, lo: np.ndarray, hi: np.ndarray, iterations: int = 64) -
     return 0.5 * (lo + hi)
 
 
+def solve_decreasing(f, lo: np.ndarray, hi: np.ndarray, halvings: int = 6, iterations: int = 100) -> np.ndarray:
+    """Find, elementwise, where a decreasing function crosses zero in ``[lo, hi]``, fast.
+
+    ``f(x, idx)`` evaluates the function of elements ``idx`` at ``x`` (so that work shrinks to the
+    elements not yet converged). ``f(lo) >= 0 >= f(hi)`` is assumed; either end may be infinite there.
+    A few halvings move both ends inside the interval (where ``f`` is finite), then the Illinois variant
+    of false position (Dowell & Jarratt 1971, BIT 11:168-174) converges superlinearly; a step that would
+    not land strictly inside the bracket falls back to halving. An element stops once its bracket is
+    within a few units in the last place, typically after 10-20 evaluations instead of bisection's 64.
+    """
+    lo = np.array(lo, dtype=np.float64, copy=True).ravel()
+    hi = np.array(hi, dtype=np.float64, copy=True).ravel()
+    every = np.arange(lo.size)
+    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+        for _ in range(halvings):
+            mid = 0.5 * (lo + hi)
+            positive = f(mid, every) >= 0.0
+            lo = np.where(positive, mid, lo)
+            hi = np.where(positive, hi, mid)
+        f_lo = f(lo, every)
+        f_hi = f(hi, every)
+        side = np.zeros(lo.shape)
+        idx = every
+        for _ in range(iterations):
+            a, b, fa, fb = lo[idx], hi[idx], f_lo[idx], f_hi[idx]
+            width = b - a
+            keep = width > 4.0 * np.spacing(np.maximum(np.abs(a), np.abs(b)))
+            idx, a, b, fa, fb, width = idx[keep], a[keep], b[keep], fa[keep], fb[keep], width[keep]
+            if idx.size == 0:
+                break
+            usable = np.isfinite(fa) & np.isfinite(fb) & (fa > fb)
+            guess = a + width * fa / np.where(usable, fa - fb, 1.0)
+            x = np.where(usable & (guess > a) & (guess < b), guess, 0.5 * (a + b))
+            fx = f(x, idx)
+            positive = fx >= 0.0
+            exact = fx == 0.0
+            last = side[idx]
+            # Illinois: when the same end moves twice running, halve the value kept at the other end.
+            f_hi[idx] = np.where(positive, np.where(last > 0, 0.5 * fb, fb), fx)
+            f_lo[idx] = np.where(positive, fx, np.where(last < 0, 0.5 * fa, fa))
+            lo[idx] = np.where(positive | exact, x, a)
+            hi[idx] = np.where(positive & ~exact, b, x)
+            side[idx] = np.where(positive, 1.0, -1.0)
+    return 0.5 * (lo + hi)
+
+
 def percent(p: float, digits: int = 1) -> str:
     """Format a rate in [0, 1] as a percentage string."""
     return f"{100.0 * p:.{digits}f}%"

@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._common import bisect_decreasing
+from ._common import solve_decreasing
 
 EFFECTS = ("difference", "ratio", "odds-ratio")
 NO_EFFECT = {"difference": 0.0, "ratio": 1.0, "odds-ratio": 1.0}
@@ -41,16 +41,15 @@ def _variance_factor(n1, n2, correction: bool):
     return n / (n - 1.0)
 
 
-def restricted_rates_difference(x1, n1, x2, n2, delta):
-    """Return the MLE of (p1, p2) subject to ``p1 - p2 = delta`` (closed-form cubic root).
+def _difference_root(x1, n1, x2, n2, delta):
+    """Return the restricted MLE of p1 under ``p1 - p2 = delta``: closed-form cubic root, then Newton.
 
-    Farrington & Manning (1990), p. 1451, with theta = n2/n1; the root is the one that Miettinen &
-    Nurminen (1985) give in their Appendix. statsmodels 0.15 ``score_test_proportions_2indep`` solves an
-    algebraically rearranged cubic that picks an infeasible root on some inputs (for example 7/50 vs
-    1/77 at a difference of -0.418); this form agrees with a direct numerical maximisation of the
-    likelihood (tests/reference/test_score.py).
+    The closed form (Farrington & Manning 1990, p. 1451, theta = n2/n1) evaluates arccos near +-1 for
+    rare events, which costs about sqrt(machine epsilon) of absolute precision (1e-8 absolute is 100 % at a
+    rate of 1e-8). Newton steps on the likelihood equation restore full relative precision; where they do not
+    settle within three steps (or would leave the feasible interval) the root is bracketed and solved with
+    :func:`solve_decreasing` instead, which also finds roots on the edge of the interval.
     """
-    delta = np.asarray(delta, dtype=np.float64)
     theta = n2 / n1
     r1 = x1 / n1
     r2 = x2 / n2
@@ -59,15 +58,93 @@ def restricted_rates_difference(x1, n1, x2, n2, delta):
     c = delta * delta + delta * (2.0 * r1 + theta + 1.0) + r1 + theta * r2
     d = -r1 * delta * (1.0 + delta)
     b3a = b / (3.0 * a)
-    v = b3a**3 - b * c / (6.0 * a * a) + d / (2.0 * a)
-    u = np.where(v >= 0, 1.0, -1.0) * np.sqrt(np.maximum(b3a**2 - c / (3.0 * a), 0.0))
+    v = b3a * b3a * b3a - b * c / (6.0 * a * a) + d / (2.0 * a)
+    u = np.where(v >= 0, 1.0, -1.0) * np.sqrt(np.maximum(b3a * b3a - c / (3.0 * a), 0.0))
     with np.errstate(divide="ignore", invalid="ignore"):
-        cos_arg = np.where(u != 0, v / np.where(u != 0, u, 1.0) ** 3, 0.0)
+        cos_arg = np.where(u != 0, v / np.where(u != 0, u * u * u, 1.0), 0.0)
     w = (np.pi + np.arccos(np.clip(cos_arg, -1.0, 1.0))) / 3.0
-    p1 = 2.0 * u * np.cos(w) - b3a
-    # Rounding can push the root a hair outside the feasible range; the MLE lies inside it.
-    p1 = np.clip(p1, np.maximum(0.0, delta), np.minimum(1.0, 1.0 + delta))
-    return p1, p1 - delta
+    lo = np.maximum(0.0, delta)
+    hi = np.minimum(1.0, 1.0 + delta)
+    p1 = np.clip(2.0 * u * np.cos(w) - b3a, lo, hi)
+    f1 = n1 - x1
+    f2 = n2 - x2
+
+    def score(p):
+        # Derivative of the log-likelihood in p1; terms with a zero count vanish (no 0/0).
+        p2 = p - delta
+        return (np.where(x1 > 0, x1 / p, 0.0) - np.where(f1 > 0, f1 / (1.0 - p), 0.0)
+                + np.where(x2 > 0, x2 / p2, 0.0) - np.where(f2 > 0, f2 / (1.0 - p2), 0.0))
+
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        g = score(p1)
+        # The log-likelihood is concave in p1, so its derivative decreases: a clipped root whose score
+        # still points inwards is an interior root that rounding pushed onto the edge.
+        flagged = ((p1 <= lo) & (g > 0)) | ((p1 >= hi) & (g < 0))
+        change = np.zeros(np.shape(p1))
+        for _ in range(3):
+            p2 = p1 - delta
+            dg = -(np.where(x1 > 0, x1 / (p1 * p1), 0.0) + np.where(f1 > 0, f1 / ((1.0 - p1) ** 2), 0.0)
+                   + np.where(x2 > 0, x2 / (p2 * p2), 0.0) + np.where(f2 > 0, f2 / ((1.0 - p2) ** 2), 0.0))
+            step = p1 - g / dg
+            ok = np.isfinite(step) & (step > lo) & (step < hi)
+            # A step that would leave the interval from inside means the start was far off (or the
+            # root is on the edge): count it as not converged.
+            change = np.where(ok, np.abs(step - p1), np.where((p1 > lo) & (p1 < hi) & (g != 0), np.inf, 0.0))
+            p1 = np.where(ok, step, p1)
+            g = score(p1)
+        # Newton converges quadratically from a good start; one still moving after three steps started
+        # far off (the closed form can be wrong by 100 % for rates near 1e-9): solve it by bracketing.
+        flagged = np.broadcast_to(flagged | (change > 1e-12 * np.maximum(np.minimum(p1, 1.0 - p1), 1e-300)),
+                                  np.shape(p1))
+        if np.any(flagged):
+            p1 = np.array(np.broadcast_to(p1, flagged.shape), copy=True)
+            # Most of these have their root on an edge, which the sign of the score there tells at once.
+            at_lo = flagged & (np.broadcast_to(score(lo), flagged.shape) <= 0)
+            at_hi = flagged & ~at_lo & (np.broadcast_to(score(hi), flagged.shape) >= 0)
+            p1 = np.where(at_lo, np.broadcast_to(lo, flagged.shape), p1)
+            p1 = np.where(at_hi, np.broadcast_to(hi, flagged.shape), p1)
+            flagged = flagged & ~at_lo & ~at_hi
+        if np.any(flagged):
+            idx = np.flatnonzero(flagged)
+            sx1, sf1, sx2, sf2, sd, slo, shi = (np.broadcast_to(arr, flagged.shape).ravel()[idx]
+                                                 for arr in (x1, f1, x2, f2, delta, lo, hi))
+
+            def sub_score(p, i):
+                p2 = p - sd[i]
+                return (np.where(sx1[i] > 0, sx1[i] / p, 0.0) - np.where(sf1[i] > 0, sf1[i] / (1.0 - p), 0.0)
+                        + np.where(sx2[i] > 0, sx2[i] / p2, 0.0) - np.where(sf2[i] > 0, sf2[i] / (1.0 - p2), 0.0))
+
+            p1.ravel()[idx] = solve_decreasing(sub_score, slo, shi)
+    return p1
+
+
+def restricted_rates_difference_full(x1, n1, x2, n2, delta):
+    """Return (p1, p2, 1 - p1, 1 - p2) of the MLE restricted to ``p1 - p2 = delta``.
+
+    Where successes are the majority the problem is solved for the failure rates (difference
+    ``-delta``), so that the small one of each rate and its complement is the one computed directly.
+    Farrington & Manning (1990); statsmodels 0.15 ``score_test_proportions_2indep`` solves an
+    algebraically rearranged cubic that picks an infeasible root on some inputs (for example 7/50 vs
+    1/77 at a difference of -0.418); this one agrees with a direct maximisation of the likelihood
+    (tests/reference/test_score.py).
+    """
+    delta = np.asarray(delta, dtype=np.float64)
+    mirror = (x1 + x2) > 0.5 * (n1 + n2)
+    xs1 = np.where(mirror, n1 - x1, x1)
+    xs2 = np.where(mirror, n2 - x2, x2)
+    ds = np.where(mirror, -delta, delta)
+    s1 = _difference_root(xs1, n1, xs2, n2, ds)
+    s2 = np.clip(s1 - ds, 0.0, 1.0)
+    c1 = 1.0 - s1
+    c2 = 1.0 - s2
+    return (np.where(mirror, c1, s1), np.where(mirror, c2, s2),
+            np.where(mirror, s1, c1), np.where(mirror, s2, c2))
+
+
+def restricted_rates_difference(x1, n1, x2, n2, delta):
+    """Return the MLE of (p1, p2) subject to ``p1 - p2 = delta``."""
+    p1, p2, _, _ = restricted_rates_difference_full(x1, n1, x2, n2, delta)
+    return p1, p2
 
 
 def restricted_rates_ratio(x1, n1, x2, n2, ratio):
@@ -114,10 +191,20 @@ def restricted_rates_odds_ratio(x1, n1, x2, n2, odds_ratio):
     the first with the groups swapped and the odds ratio inverted) rather than one derived from the
     other, which would lose all precision when the other rate rounds to 1 at extreme odds ratios.
     """
+    p1, p2, _, _ = restricted_rates_odds_ratio_full(x1, n1, x2, n2, odds_ratio)
+    return p1, p2
+
+
+def restricted_rates_odds_ratio_full(x1, n1, x2, n2, odds_ratio):
+    """Return (p1, p2, 1 - p1, 1 - p2), each from its own quadratic (failures: odds ratio inverted)."""
     psi = np.asarray(odds_ratio, dtype=np.float64)
     with np.errstate(divide="ignore", over="ignore"):
         inv = 1.0 / psi
-    return _or_control_rate(x2, n2, x1, n1, inv), _or_control_rate(x1, n1, x2, n2, psi)
+    p1 = _or_control_rate(x2, n2, x1, n1, inv)
+    p2 = _or_control_rate(x1, n1, x2, n2, psi)
+    q1 = _or_control_rate(n2 - x2, n2, n1 - x1, n1, psi)
+    q2 = _or_control_rate(n1 - x1, n1, n2 - x2, n2, inv)
+    return p1, p2, q1, q2
 
 
 def score_statistic(x1, n1, x2, n2, value, effect: str = "difference", correction: bool = True):
@@ -131,30 +218,38 @@ def score_statistic(x1, n1, x2, n2, value, effect: str = "difference", correctio
     factor = _variance_factor(n1, n2, correction)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         if effect == "difference":
-            q1, q2 = restricted_rates_difference(x1, n1, x2, n2, value)
+            q1, q2, c1, c2 = restricted_rates_difference_full(x1, n1, x2, n2, value)
             num = p1 - p2 - value
-            var = (q1 * (1.0 - q1) / n1 + q2 * (1.0 - q2) / n2) * factor
+            var = (q1 * c1 / n1 + q2 * c2 / n2) * factor
             z = num / np.sqrt(var)
+            exact_zero = (x1 * n2 - x2 * n1 == value * n1 * n2) if np.ndim(value) == 0 else num == 0
         elif effect == "ratio":
             q1, q2 = restricted_rates_ratio(x1, n1, x2, n2, value)
             num = p1 - value * p2
             var = (q1 * (1.0 - q1) / n1 + value**2 * q2 * (1.0 - q2) / n2) * factor
             z = num / np.sqrt(var)
+            exact_zero = num == 0
         elif effect == "odds-ratio":
-            q1, q2 = restricted_rates_odds_ratio(x1, n1, x2, n2, value)
+            q1, q2, c1, c2 = restricted_rates_odds_ratio_full(x1, n1, x2, n2, value)
             # The restricted fit keeps the total number of successes (a sufficient statistic of the
-            # logistic model), so the Miettinen-Nurminen numerator reduces to e * W with
-            # e = x1 - n1*q1 and W the variance below: z = e * sqrt(W / factor).
-            num = x1 - n1 * q1
-            w = 1.0 / (n1 * q1 * (1.0 - q1)) + 1.0 / (n2 * q2 * (1.0 - q2))
+            # logistic model), so the Miettinen-Nurminen numerator reduces to e * W with the residual
+            # e = x1 - n1*q1 = n2*q2 - x2 = n1*c1 - (n1 - x1) = (n2 - x2) - n2*c2 and W the variance
+            # below: z = e * sqrt(W / factor). Of the four equal forms the one whose two terms are
+            # smallest is computed, so e keeps its relative precision when it is tiny.
+            forms = np.stack(np.broadcast_arrays(x1 - n1 * q1, n2 * q2 - x2, n1 * c1 - (n1 - x1), (n2 - x2) - n2 * c2))
+            sizes = np.stack(np.broadcast_arrays(np.maximum(x1, n1 * q1), np.maximum(x2, n2 * q2),
+                                                 np.maximum(n1 - x1, n1 * c1), np.maximum(n2 - x2, n2 * c2)))
+            num = np.take_along_axis(forms, np.argmin(sizes, axis=0)[None], axis=0)[0]
+            w = 1.0 / (n1 * q1 * c1) + 1.0 / (n2 * q2 * c2)
             z = num * np.sqrt(w / factor)
+            exact_zero = num == 0
         else:
             raise ValueError(f'effect "{effect}" not recognized; use difference, ratio or odds-ratio')
     num = np.broadcast_to(num, np.shape(z))
-    zero_num = np.abs(num) <= 1e-15 * np.maximum(1.0, np.abs(np.asarray(value, dtype=np.float64)))
+    exact_zero = np.broadcast_to(exact_zero, np.shape(z))
     bad = ~np.isfinite(z)
-    z = np.where(bad & zero_num, 0.0, z)
-    z = np.where(bad & ~zero_num, np.copysign(np.inf, num), z)
+    z = np.where(bad & exact_zero, 0.0, z)
+    z = np.where(bad & ~exact_zero, np.copysign(np.inf, num), z)
     return z
 
 
@@ -174,14 +269,18 @@ def score_interval(x1, n1, x2, n2, z_lower, z_upper, effect: str = "difference",
     z_lower = np.broadcast_to(np.asarray(z_lower, dtype=np.float64), x1.shape)
     z_upper = np.broadcast_to(np.asarray(z_upper, dtype=np.float64), x1.shape)
 
+    shape = x1.shape
+    fx1, fn1, fx2, fn2 = (a.ravel() for a in (x1, n1, x2, n2))
+    zl, zu = z_lower.ravel(), z_upper.ravel()
+
     if effect == "difference":
-        est = p1 - p2
+        est = (p1 - p2).ravel()
 
-        def stat(v):
-            return score_statistic(x1, n1, x2, n2, v, "difference", correction)
+        def stat(v, idx):
+            return score_statistic(fx1[idx], fn1[idx], fx2[idx], fn2[idx], v, "difference", correction)
 
-        lower = bisect_decreasing(lambda v: stat(v) - z_lower, np.full_like(est, -1.0), est)
-        upper = bisect_decreasing(lambda v: stat(v) + z_upper, est, np.full_like(est, 1.0))
+        lower = solve_decreasing(lambda v, i: stat(v, i) - zl[i], np.full_like(est, -1.0), est).reshape(shape)
+        upper = solve_decreasing(lambda v, i: stat(v, i) + zu[i], est, np.full_like(est, 1.0)).reshape(shape)
         lower = np.where(np.isinf(z_lower), -1.0, np.clip(lower, -1.0, 1.0))
         upper = np.where(np.isinf(z_upper), 1.0, np.clip(upper, -1.0, 1.0))
         return lower, upper
@@ -189,28 +288,32 @@ def score_interval(x1, n1, x2, n2, z_lower, z_upper, effect: str = "difference",
     if effect not in ("ratio", "odds-ratio"):
         raise ValueError(f'effect "{effect}" not recognized; use difference, ratio or odds-ratio')
 
-    def stat_log(t):
-        return score_statistic(x1, n1, x2, n2, np.exp(t), effect, correction)
+    def stat_log(t, idx):
+        return score_statistic(fx1[idx], fn1[idx], fx2[idx], fn2[idx], np.exp(t), effect, correction)
 
     with np.errstate(divide="ignore", invalid="ignore"):
         if effect == "ratio":
             est = p1 / p2
         else:
             est = (p1 * (1.0 - p2)) / (p2 * (1.0 - p1))
+    est = est.ravel()
     # Where the estimate is 0, infinite or undefined (0/0) the search runs over the whole line.
     log_est = np.where(np.isfinite(est) & (est > 0), np.log(np.where(est > 0, est, 1.0)), np.nan)
-    lo_edge = np.full_like(p1, -_LOG_EDGE)
-    hi_edge = np.full_like(p1, _LOG_EDGE)
+    lo_edge = np.full_like(est, -_LOG_EDGE)
+    hi_edge = np.full_like(est, _LOG_EDGE)
     mid_lower = np.where(np.isnan(log_est), np.where(np.isinf(est), hi_edge, lo_edge), log_est)
     mid_upper = np.where(np.isnan(log_est), np.where(est == 0, lo_edge, hi_edge), log_est)
     # 0/0 estimates (no information on the scale): both searches span the whole line.
     undefined = np.isnan(est)
     mid_lower = np.where(undefined, hi_edge, mid_lower)
     mid_upper = np.where(undefined, lo_edge, mid_upper)
-    t_low = bisect_decreasing(lambda t: stat_log(t) - z_lower, lo_edge, mid_lower)
-    t_upp = bisect_decreasing(lambda t: stat_log(t) + z_upper, mid_upper, hi_edge)
+    t_low = solve_decreasing(lambda t, i: stat_log(t, i) - zl[i], lo_edge, mid_lower).reshape(shape)
+    t_upp = solve_decreasing(lambda t, i: stat_log(t, i) + zu[i], mid_upper, hi_edge).reshape(shape)
     lower = np.where(t_low <= -_LOG_EDGE + 1e-9, 0.0, np.exp(t_low))
     upper = np.where(t_upp >= _LOG_EDGE - 1e-9, np.inf, np.exp(t_upp))
-    lower = np.where(np.isinf(z_lower), 0.0, lower)
-    upper = np.where(np.isinf(z_upper), np.inf, upper)
+    # An undefined estimate (0/0: no successes at all for a ratio; every trial with the same outcome for
+    # an odds ratio) carries no information on this scale: the interval is the whole range.
+    undefined = undefined.reshape(shape)
+    lower = np.where(np.isinf(z_lower) | undefined, 0.0, lower)
+    upper = np.where(np.isinf(z_upper) | undefined, np.inf, upper)
     return lower, upper
