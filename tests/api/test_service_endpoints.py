@@ -77,3 +77,27 @@ def test_bearer_auth_when_tokens_are_configured():
     assert c.post("/v1/tests", json=body, headers={"Authorization": "Bearer wrong"}).status_code == 401
     assert c.post("/v1/tests", json=body, headers={"Authorization": "Bearer other"}).status_code == 200
     assert c.get("/healthz").status_code == 200 and c.get("/docs").status_code == 200
+
+
+def test_auth_off_leaves_everything_open(client):
+    body = {"control": {"successes": 1, "trials": 2}, "treatment": {"successes": 1, "trials": 2}}
+    assert client.post("/v1/tests", json=body).status_code == 200
+    assert client.post("/v1/tests", json=body, headers={"Authorization": "Bearer anything"}).status_code == 200
+    assert client.get("/metrics").status_code == 200
+
+
+def test_metrics_token_is_separate_from_the_api_tokens():
+    from proportio.api import create_app
+
+    c = create_app({"TESTING": True, "PROPORTIO_API_TOKENS": ("api",), "PROPORTIO_METRICS_TOKEN": "scrape"}
+                   ).test_client()
+    assert c.get("/metrics").status_code == 401
+    assert c.get("/metrics", headers={"Authorization": "Bearer api"}).status_code == 401
+    r = c.get("/metrics", headers={"Authorization": "Bearer scrape"})
+    assert r.status_code == 200 and "proportio_http_requests_total" in r.get_data(as_text=True)
+    assert c.get("/healthz").status_code == 200 and c.get("/readyz").status_code == 200
+
+
+def test_metrics_is_a_documented_service_operation():
+    op = build_spec()["paths"]["/metrics"]["get"]
+    assert op["tags"] == ["service"] and "401" in op["responses"]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import os
 import pathlib
 import socket
@@ -16,6 +17,15 @@ import requests
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 
 
+def container_command() -> list[str]:
+    """The CMD of docker/Dockerfile (exec form), with this interpreter standing in for ``python``."""
+    lines = [line for line in (ROOT / "docker" / "Dockerfile").read_text().splitlines() if line.startswith("CMD ")]
+    argv = json.loads(lines[-1][len("CMD "):])
+    if argv[0] == "python":
+        argv[0] = sys.executable
+    return argv
+
+
 def free_port() -> int:
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
@@ -26,14 +36,10 @@ def start_server(extra_env: dict[str, str] | None = None, workers: int = 2):
     port = free_port()
     env = {**os.environ, "PROPORTIO_BIND": f"127.0.0.1:{port}", "PROPORTIO_WORKERS": str(workers),
            **(extra_env or {})}
-    # Exactly the container's command (docker/Dockerfile CMD) with its config file.
+    # Exactly the container's command (docker/Dockerfile CMD, read from the file) with its config file.
     # The server's own log goes to a file: a pipe nobody reads would block it once full.
     log = tempfile.TemporaryFile(mode="w+")
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "gunicorn", "-c", str(ROOT / "docker" / "gunicorn.conf.py"),
-         "proportio.api:create_app()"],
-        env=env, stdout=log, stderr=subprocess.STDOUT, text=True,
-    )
+    proc = subprocess.Popen(container_command(), cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT, text=True)
     proc.log = log
     url = f"http://127.0.0.1:{port}"
     deadline = time.monotonic() + 60

@@ -7,6 +7,7 @@ import json
 
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
+from marshmallow import validate
 
 from .. import __version__
 from ..catalogue import CAUTIONS
@@ -21,15 +22,34 @@ DESCRIPTION = (
 )
 
 
+def _exclusive_bounds(self, field, ret, **kwargs) -> dict:
+    """Write open ends of marshmallow Range validators as OpenAPI 3.1 exclusiveMinimum/exclusiveMaximum.
+
+    apispec 6 writes every bound as minimum/maximum, which would document 0 as a valid alpha.
+    """
+    out: dict = {}
+    for validator in field.validators:
+        if isinstance(validator, validate.Range):
+            if validator.min is not None and not validator.min_inclusive:
+                out["exclusiveMinimum"] = validator.min
+                ret.pop("minimum", None)
+            if validator.max is not None and not validator.max_inclusive:
+                out["exclusiveMaximum"] = validator.max
+                ret.pop("maximum", None)
+    return out
+
+
 def build_spec() -> dict:
     """Return the OpenAPI document as a plain dict (deterministic: same code, same document)."""
+    plugin = MarshmallowPlugin()
     spec = APISpec(
         title="Proportio",
         version=__version__,
         openapi_version="3.1.0",
-        plugins=[MarshmallowPlugin()],
+        plugins=[plugin],
         info={"description": DESCRIPTION, "license": {"name": "MIT", "identifier": "MIT"}},
     )
+    plugin.converter.add_attribute_function(_exclusive_bounds)
     spec.components.schema("Problem", schema=ProblemSchema)
     spec.components.security_scheme("bearer", {"type": "http", "scheme": "bearer"})
     paths: dict[str, dict] = {}

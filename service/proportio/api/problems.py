@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import json
 import logging
-from typing import Any
+from typing import Any, NoReturn
 
 import orjson
 from flask import Flask, Response, g, request
 from werkzeug.exceptions import HTTPException, RequestEntityTooLarge
+
+from .limits import deep_field
 
 log = logging.getLogger("proportio")
 
@@ -82,20 +84,46 @@ def parse_json_body() -> Any:
     try:
         raw = request.get_data(cache=False)
     except RequestEntityTooLarge as exc:
-        raise Problem(413, _too_large_detail()) from exc
+        raise Problem(413, _too_large_detail(), _TOO_LARGE) from exc
+    if request.content_length is None and len(raw) >= (request.max_content_length or len(raw) + 1):
+        # A streamed (chunked) body is cut at the limit rather than refused: look for a byte beyond it.
+        if request.environ["wsgi.input"].read(1):
+            raise Problem(413, _too_large_detail(), _TOO_LARGE)
     if not raw.strip():
         raise Problem(400, "the request body is empty; send a JSON object", {"body": ["empty body"]})
     try:
-        return orjson.loads(raw)
+        payload = orjson.loads(raw)
     except orjson.JSONDecodeError as exc:
+        if "depth limit" in str(exc):
+            _too_deep("body")
         # orjson refuses integers beyond 64 bits; the standard parser reads them so that the schema can
         # answer with a 422 naming the field. NaN and Infinity stay invalid JSON.
         try:
-            return json.loads(raw, parse_constant=_reject_constant)
-        except (ValueError, RecursionError):
-            pass
-        raise Problem(400, f"the body is not valid JSON: {exc.args[0] if exc.args else 'parse error'}",
-                      {"body": ["malformed JSON"]}) from exc
+            payload = json.loads(raw, parse_constant=_reject_constant)
+        except RecursionError:
+            _too_deep("body")
+        except ValueError:
+            raise Problem(400, f"the body is not valid JSON: {exc.args[0] if exc.args else 'parse error'}",
+                          {"body": ["malformed JSON"]}) from exc
+    field = deep_field(payload, raw, _max_depth())
+    if field is not None:
+        _too_deep(field)
+    return payload
+
+
+def _max_depth() -> int:
+    from flask import current_app
+
+    return current_app.config.get("PROPORTIO_MAX_JSON_DEPTH", 32)
+
+
+def _too_deep(field: str) -> NoReturn:
+    limit = _max_depth()
+    raise Problem(422, f"the body nests deeper than {limit} levels; no request of this API needs that",
+                  {field: [f"nested deeper than the {limit}-level limit"]})
+
+
+_TOO_LARGE = {"body": ["larger than PROPORTIO_MAX_BODY_BYTES allows"]}
 
 
 def _too_large_detail() -> str:
@@ -117,7 +145,7 @@ def register_error_handlers(app: Flask) -> None:
     def _http(exc: HTTPException):
         status = exc.code or 500
         if status == 413:
-            return problem_response(413, _too_large_detail())
+            return problem_response(413, _too_large_detail(), _TOO_LARGE)
         detail = {
             404: f"no resource at {request.path}; see /docs for the endpoints",
             405: f"{request.method} is not allowed on {request.path}",

@@ -5,11 +5,13 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import wraps
+from time import perf_counter
 
 import orjson
-from flask import Blueprint, Response
+from flask import Blueprint, Response, g
 from marshmallow import Schema, ValidationError
 
+from ..errors import field_error  # noqa: F401  (re-exported for views)
 from ..schemas import flatten_errors
 from .problems import Problem, parse_json_body
 
@@ -64,10 +66,12 @@ def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | Non
                 except ValidationError as exc:
                     raise Problem(422, "the request does not meet the contract; see errors",
                                   flatten_errors(exc.messages)) from exc
+                started = perf_counter()
                 try:
                     result = fn(data)
                 except ValueError as exc:
                     raise Problem(422, str(exc), {getattr(exc, "field", "body"): [str(exc)]}) from exc
+                _note_method(result, perf_counter() - started)
             if isinstance(result, Response):
                 return result
             return json_response(resp.dump(result) if resp is not None else result)
@@ -81,8 +85,12 @@ def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | Non
     return decorate
 
 
-def field_error(message: str, field: str) -> ValueError:
-    """Return a ValueError that the view wrapper reports under ``field``."""
-    exc = ValueError(message)
-    exc.field = field  # type: ignore[attr-defined]
-    return exc
+def _note_method(result, seconds: float) -> None:
+    """Put the statistical method of ``result`` (attribute or key ``method``) in flask.g for the log and metrics.
+
+    A view whose result has no single method may set ``g.stat_method`` itself.
+    """
+    method = result.get("method") if isinstance(result, dict) else getattr(result, "method", None)
+    if isinstance(method, str) and "stat_method" not in g:
+        g.stat_method = method
+        g.compute_seconds = seconds

@@ -3,6 +3,8 @@
 ``test`` and ``interval`` compute in-process by default (no server needed); with ``--url`` (or the
 ``PROPORTIO_URL`` environment variable) they call a running service instead and print the same result.
 Exit codes: 0 done, 2 bad arguments or counts (one line on stderr), 1 the service failed or was unreachable.
+``gate`` is the exception: its exit code is the verdict (0 pass, 1 fail, 3 inconclusive, 2 bad input, 4 service
+failure; see :mod:`proportio.cli.guardrail`).
 """
 
 from __future__ import annotations
@@ -13,7 +15,7 @@ import os
 import sys
 from collections.abc import Sequence
 
-from . import twogroup
+from . import allocation, arms, batch, guardrail, planning, sequential, twogroup
 from .common import EXIT_ERROR, EXIT_OK, EXIT_USAGE, UsageError, add_remote, run
 
 
@@ -43,7 +45,7 @@ def _serve(args: argparse.Namespace) -> int:
 
 
 # Each command module offers add_parsers(sub, add_remote) and HANDLERS {command: handler(args, run)}.
-COMMANDS = (twogroup,)
+COMMANDS = (twogroup, planning, sequential, guardrail, batch, arms, allocation)
 HANDLERS = {name: fn for module in COMMANDS for name, fn in module.HANDLERS.items()}
 
 
@@ -56,6 +58,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         handler = HANDLERS.get(args.command)
         if handler is None:  # pragma: no cover - argparse rejects unknown commands
             parser.error(f"unknown command {args.command}")
+        if getattr(handler, "returns_exit_code", False):  # gate: the exit code is the verdict (see its module)
+            return handler(args, run)
         result, printer = handler(args, run)
     except UsageError as exc:
         print(f"proportio: {exc}", file=sys.stderr)

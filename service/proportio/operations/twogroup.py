@@ -3,25 +3,17 @@
 from __future__ import annotations
 
 from ..stats import intervals, twogroup
+from .batch import columns_from_items, run_columns
 
 
 def run_tests(items: list[dict]) -> list[twogroup.TestResult]:
-    """Run validated test requests, one vectorised core call per distinct set of options."""
-    groups: dict[tuple, list[int]] = {}
-    for i, item in enumerate(items):
-        key = (item["method"], item["alternative"], item["null_value"], item["effect"], item["alpha"],
-               item["continuity_correction"])
-        groups.setdefault(key, []).append(i)
+    """Run validated test requests, one vectorised core call per distinct set of options.
+
+    This is the /v1/batch code path (operations.batch.run_columns), so a single test is a batch of one.
+    """
     results: list[twogroup.TestResult | None] = [None] * len(items)
-    for key, idx in groups.items():
-        method, alternative, null_value, effect, alpha, cc = key
-        out = twogroup.compare(
-            [items[i]["treatment"]["successes"] for i in idx], [items[i]["treatment"]["trials"] for i in idx],
-            [items[i]["control"]["successes"] for i in idx], [items[i]["control"]["trials"] for i in idx],
-            method=method, alternative=alternative, null_value=null_value, effect=effect, alpha=alpha,
-            continuity_correction=cc,
-        )
-        for i, res in zip(idx, out, strict=True):
+    for idx, columns in run_columns(columns_from_items(items)):
+        for i, res in zip(idx.tolist(), twogroup.results_from_columns(columns), strict=True):
             results[i] = res
     return results  # type: ignore[return-value]
 

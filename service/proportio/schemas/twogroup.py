@@ -39,6 +39,13 @@ class TestRequestSchema(StrictSchema):
         except ValueError as exc:
             raise_for(exc, ("null_value", "continuity_correction", "alternative", "effect", "alpha", "method"),
                       "method")
+        method = data.get("method", "auto")
+        if method in twogroup.EXACT_METHODS and "control" in data and "treatment" in data:
+            largest = max(data["control"]["trials"], data["treatment"]["trials"])
+            try:
+                twogroup.check_exact_size(method, largest, largest)
+            except ValueError as exc:
+                raise ValidationError(str(exc), field_name="method") from exc
 
 
 class EstimateSchema(Schema):

@@ -43,7 +43,7 @@ from ._common import (
     significant_digits,
     z_one_sided,
 )
-from .intervals import MAX_TRIALS_CONDITIONAL_EXACT, effect_bounds, finite_or_none, rate_estimates
+from .intervals import MAX_TRIALS_CONDITIONAL_EXACT, effect_bounds, rate_estimates
 
 METHODS = ("auto", "z-pooled", "z-unpooled", "score", "chi-square", "fisher-exact", "boschloo-exact", "barnard-exact")
 EFFECTS = ("difference", "ratio", "odds-ratio")
@@ -185,6 +185,7 @@ def compare(
     effect: str = "difference",
     alpha: float = 0.05,
     continuity_correction: bool = False,
+    interval_alpha: float | None = None,
 ) -> list[TestResult]:
     """Test H0: effect = ``null_value`` for each treatment/control pair of counts.
 
@@ -205,75 +206,192 @@ def compare(
         the test.
     continuity_correction : bool
         Continuity-correct the z-tests (Yates for chi-square).
+    interval_alpha : float, optional
+        Report the interval at confidence ``1 - interval_alpha`` instead of ``1 - alpha`` (same method and
+        sidedness). Pass ``alpha / m`` for Bonferroni intervals with simultaneous coverage over ``m``
+        comparisons (Dunn 1961, JASA 56:52-64); the interval then no longer mirrors the test's decision.
 
     Returns
     -------
     list of TestResult, in input order.
     """
+    return results_from_columns(compare_columns(
+        treatment_successes, treatment_trials, control_successes, control_trials, method=method,
+        alternative=alternative, null_value=null_value, effect=effect, alpha=alpha,
+        continuity_correction=continuity_correction, interval_alpha=interval_alpha,
+    ))
+
+
+@dataclass(frozen=True, slots=True)
+class TestColumns:
+    """The outcomes of many comparisons sharing one set of options: one list per field of :class:`TestResult`.
+
+    The lists hold exactly the values the result objects carry (Python floats, ``None`` where a quantity is
+    undefined or unbounded), so a batch can be written out without building an object per comparison.
+    ``p_values`` is the p-value array with NaN where the test is undefined.
+    """
+
+    options: Options
+    statistic: list
+    p_value: list
+    log10_p_value: list
+    reject_null: list
+    method: list
+    method_reason: list
+    continuity_correction: list
+    control_rate: list
+    treatment_rate: list
+    difference: list
+    relative_lift: list
+    odds_ratio: list
+    interval_method: list
+    interval_confidence: float
+    lower: list
+    upper: list
+    min_expected_count: list
+    normal_approximation_ok: list
+    warnings: list
+    summary: list
+    p_values: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.summary)
+
+
+def compare_columns(
+    treatment_successes,
+    treatment_trials,
+    control_successes,
+    control_trials,
+    *,
+    method: str = "auto",
+    alternative: str = "two-sided",
+    null_value: float | None = None,
+    effect: str = "difference",
+    alpha: float = 0.05,
+    continuity_correction: bool = False,
+    interval_alpha: float | None = None,
+) -> TestColumns:
+    """Run :func:`compare` and return its results as columns (see :class:`TestColumns`).
+
+    ``compare`` is this function followed by :func:`results_from_columns`, so the two never disagree.
+    """
     opts = check_options(method, alternative, null_value, effect, alpha, continuity_correction)
+    if interval_alpha is not None:
+        interval_alpha = float(interval_alpha)
+        if not (0.0 < interval_alpha < 1.0):
+            raise ValueError(f"interval_alpha must be in (0, 1), got {interval_alpha}")
     x1, n1 = as_counts(treatment_successes, treatment_trials, "treatment")
     x2, n2 = as_counts(control_successes, control_trials, "control")
     if x1.shape != x2.shape:
         raise ValueError("treatment and control must hold the same number of comparisons")
-    return _compare_arrays(x1, n1, x2, n2, opts)
+    return _compare_columns(x1, n1, x2, n2, opts, interval_alpha)
 
 
-def _compare_arrays(x1, n1, x2, n2, opts: Options) -> list[TestResult]:
-    size = x1.shape[0]
+def results_from_columns(cols: TestColumns) -> list[TestResult]:
+    """Turn columns into one :class:`TestResult` per comparison, in order."""
+    opts = cols.options
+    conf = cols.interval_confidence
+    return [
+        TestResult(
+            statistic=stat, p_value=p, log10_p_value=log10p, alpha=opts.alpha, reject_null=reject,
+            alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=method,
+            method_reason=reason, continuity_correction=cc,
+            estimate=Estimate(control_rate=cr, treatment_rate=tr, difference=diff, relative_lift=lift,
+                              odds_ratio=odds),
+            interval=TestInterval(imethod, conf, lo, hi),
+            assumptions=Assumptions(min_exp, EXPECTED_COUNT_THRESHOLD, ok),
+            warnings=notes, summary=summary,
+        )
+        for (stat, p, log10p, reject, method, reason, cc, cr, tr, diff, lift, odds, imethod, lo, hi, min_exp, ok,
+             notes, summary) in zip(
+            cols.statistic, cols.p_value, cols.log10_p_value, cols.reject_null, cols.method, cols.method_reason,
+            cols.continuity_correction, cols.control_rate, cols.treatment_rate, cols.difference, cols.relative_lift,
+            cols.odds_ratio, cols.interval_method, cols.lower, cols.upper, cols.min_expected_count,
+            cols.normal_approximation_ok, cols.warnings, cols.summary, strict=True,
+        )
+    ]
+
+
+def _to_list(values: np.ndarray, undefined: np.ndarray) -> list:
+    """``values`` as a list of Python floats with None wherever ``undefined`` holds."""
+    out = values.tolist()
+    for i in np.flatnonzero(undefined).tolist():
+        out[i] = None
+    return out
+
+
+def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None) -> TestColumns:
+    # Everything is computed on whole arrays; the only loops left run over comparisons that need a
+    # string of their own (summary, reason, warnings) or an exact test.
     min_expected = _min_expected_counts(x1, n1, x2, n2, opts)
     normal_ok = min_expected >= EXPECTED_COUNT_THRESHOLD
 
-    methods = np.empty(size, dtype=object)
-    reasons: list[str | None] = [None] * size
     if opts.method == "auto":
-        for i in range(size):
-            methods[i], reasons[i] = _auto_choice(opts, float(min_expected[i]), n1[i], n2[i], x1[i] + x2[i])
+        methods, reasons = _auto_choices(opts, min_expected, n1, n2)
     else:
-        methods[:] = opts.method
+        methods = np.full(x1.shape[0], opts.method, dtype=object)
+        reasons = [None] * x1.shape[0]
 
-    stat = np.full(size, np.nan)
-    p = np.full(size, np.nan)
-    log10p = np.full(size, np.nan)
-    for name in dict.fromkeys(methods.tolist()):
-        idx = np.flatnonzero(methods == name)
+    stat = np.full(x1.shape, np.nan)
+    p = np.full(x1.shape, np.nan)
+    log10p = np.full(x1.shape, np.nan)
+    groups = _index_groups(methods)
+    for name, idx in groups.items():
         stat[idx], p[idx], log10p[idx] = _run_method(name, x1[idx], n1[idx], x2[idx], n2[idx], opts)
 
-    lower, upper, interval_methods, confidence = _test_intervals(x1, n1, x2, n2, methods, opts)
+    lower, upper, interval_methods, confidence = _test_intervals(x1, n1, x2, n2, groups, opts, interval_alpha)
     p1, p2, diff, ratio, odds = rate_estimates(x1, n1, x2, n2)
 
-    results = []
-    for i in range(size):
-        warnings = _warnings(opts, methods[i], x1[i], n1[i], x2[i], n2[i], float(min_expected[i]), stat[i], p[i])
-        p_i = None if np.isnan(p[i]) else float(p[i])
-        estimate = Estimate(
-            control_rate=float(p2[i]),
-            treatment_rate=float(p1[i]),
-            difference=float(diff[i]),
-            relative_lift=None if np.isnan(ratio[i]) else float(ratio[i] - 1.0),
-            odds_ratio=finite_or_none(odds[i]),
-        )
-        interval = TestInterval(interval_methods[i], confidence, finite_or_none(lower[i]), finite_or_none(upper[i]))
-        reject = None if p_i is None else bool(p_i <= opts.alpha)
-        result = TestResult(
-            statistic=finite_or_none(stat[i]),
-            p_value=p_i,
-            log10_p_value=finite_or_none(log10p[i]),
-            alpha=opts.alpha,
-            reject_null=reject,
-            alternative=opts.alternative,
-            null_value=opts.null_value,
-            effect=opts.effect,
-            method=methods[i],
-            method_reason=reasons[i],
-            continuity_correction=opts.continuity_correction and methods[i] in ("z-pooled", "z-unpooled", "chi-square"),
-            estimate=estimate,
-            interval=interval,
-            assumptions=Assumptions(float(min_expected[i]), EXPECTED_COUNT_THRESHOLD, bool(normal_ok[i])),
-            warnings=tuple(warnings),
-            summary="",
-        )
-        results.append(_with_summary(result))
-    return results
+    p_undefined = np.isnan(p)
+    p_list = _to_list(p, p_undefined)
+    reject = _to_list(p <= opts.alpha, p_undefined)
+    lift = _to_list(ratio - 1.0, np.isnan(ratio))
+    odds_list = _to_list(odds, ~np.isfinite(odds))
+    lower_list = _to_list(lower, ~np.isfinite(lower))
+    upper_list = _to_list(upper, ~np.isfinite(upper))
+    log10_list = _to_list(log10p, ~np.isfinite(log10p))
+    method_list = methods.tolist()
+    if opts.continuity_correction:
+        cc = np.isin(methods, ("z-pooled", "z-unpooled", "chi-square")).tolist()
+    else:
+        cc = [False] * x1.shape[0]
+    warnings = _warnings(opts, methods, x1, x2, min_expected, stat, p)
+    summaries = _summaries(
+        opts, confidence, method_list, p1.tolist(), p2.tolist(), diff.tolist(), lift, odds_list, lower_list,
+        upper_list, p_list, log10_list, reject,
+    )
+    return TestColumns(
+        options=opts,
+        statistic=_to_list(stat, ~np.isfinite(stat)),
+        p_value=p_list,
+        log10_p_value=log10_list,
+        reject_null=reject,
+        method=method_list,
+        method_reason=reasons,
+        continuity_correction=cc,
+        control_rate=p2.tolist(),
+        treatment_rate=p1.tolist(),
+        difference=diff.tolist(),
+        relative_lift=lift,
+        odds_ratio=odds_list,
+        interval_method=interval_methods,
+        interval_confidence=confidence,
+        lower=lower_list,
+        upper=upper_list,
+        min_expected_count=min_expected.tolist(),
+        normal_approximation_ok=normal_ok.tolist(),
+        warnings=warnings,
+        summary=summaries,
+        p_values=p,
+    )
+
+
+def _index_groups(labels: np.ndarray) -> dict[str, np.ndarray]:
+    """Map each distinct label to the indices carrying it, in order of first appearance."""
+    if labels.shape[0] and (labels == labels[0]).all():
+        return {labels[0]: np.arange(labels.shape[0])}
+    return {name: np.flatnonzero(labels == name) for name in dict.fromkeys(labels.tolist())}
 
 
 def _min_expected_counts(x1, n1, x2, n2, opts: Options):
@@ -290,30 +408,75 @@ def _min_expected_counts(x1, n1, x2, n2, opts: Options):
     return np.minimum.reduce([n1 * q1, n1 * (1.0 - q1), n2 * q2, n2 * (1.0 - q2)])
 
 
-def _auto_choice(opts: Options, min_expected: float, n1: float, n2: float, successes: float) -> tuple[str, str]:
-    smallest = f"the smallest expected count under the null is {significant_digits(min_expected)}"
+def _auto_choices(opts: Options, min_expected: np.ndarray, n1: np.ndarray, n2: np.ndarray):
+    """Return the method auto picks for each comparison (object array) and the reason (list of str)."""
+    threshold = f"{EXPECTED_COUNT_THRESHOLD:g}"
+    smallest = [significant_digits(m) for m in min_expected.tolist()]
+    size = min_expected.shape[0]
     if opts.null_value != score.NO_EFFECT[opts.effect]:
         why = f"the null value is {opts.null_value:g}, not no effect, and only the score test handles that"
-        if min_expected < EXPECTED_COUNT_THRESHOLD:
-            why += f"; {smallest}, below {EXPECTED_COUNT_THRESHOLD:g}, so treat the p-value with caution"
-        return "score", why
-    if min_expected >= EXPECTED_COUNT_THRESHOLD:
-        return "z-pooled", (
-            f"every expected count under the null is at least {EXPECTED_COUNT_THRESHOLD:g} (the smallest is "
-            f"{significant_digits(min_expected)}), so the normal approximation is adequate: pooled z-test"
-        )
-    small = f"{smallest}, below {EXPECTED_COUNT_THRESHOLD:g}, so the normal approximation is not trusted"
-    if max(n1, n2) <= exact.MAX_TRIALS_PER_GROUP_BOSCHLOO:
-        return "boschloo-exact", f"{small}; Boschloo's exact test is used (exact, and more powerful than Fisher's)"
-    if max(n1, n2) <= exact.MAX_TRIALS_FISHER:
-        return "fisher-exact", (
-            f"{small}; the groups are too large for Boschloo's test "
-            f"(over {exact.MAX_TRIALS_PER_GROUP_BOSCHLOO:,} trials), so Fisher's exact test is used"
-        )
-    return "score", (
-        f"{small}, but the groups are too large for an exact test (over {exact.MAX_TRIALS_FISHER:,} trials); "
-        "the score test is the most accurate normal approximation"
+        caution = (f"{why}; the smallest expected count under the null is {{}}, below {threshold}, so treat "
+                   "the p-value with caution")
+        reasons = [caution.format(s) if is_small else why
+                   for s, is_small in zip(smallest, (min_expected < EXPECTED_COUNT_THRESHOLD).tolist(), strict=True)]
+        return np.full(size, "score", dtype=object), reasons
+    methods = _auto_methods(opts, min_expected, n1, n2)
+    below = ~(min_expected >= EXPECTED_COUNT_THRESHOLD)
+    adequate = (
+        f"every expected count under the null is at least {threshold} (the smallest is {{}}), so the normal "
+        "approximation is adequate: pooled z-test"
     )
+    not_trusted = (
+        f"the smallest expected count under the null is {{}}, below {threshold}, so the normal approximation "
+        "is not trusted"
+    )
+    tails = {
+        "boschloo-exact": "; Boschloo's exact test is used (exact, and more powerful than Fisher's)",
+        "fisher-exact": (
+            f"; the groups are too large for Boschloo's test (over {exact.MAX_TRIALS_PER_GROUP_BOSCHLOO:,} trials), "
+            "so Fisher's exact test is used"
+        ),
+        "score": (
+            f", but the groups are too large for an exact test (over {exact.MAX_TRIALS_FISHER:,} trials); "
+            "the score test is the most accurate normal approximation"
+        ),
+    }
+    reasons = [
+        not_trusted.format(s) + tails[m] if is_below else adequate.format(s)
+        for s, is_below, m in zip(smallest, below.tolist(), methods.tolist(), strict=True)
+    ]
+    return methods, reasons
+
+
+def _auto_methods(opts: Options, min_expected: np.ndarray, n1: np.ndarray, n2: np.ndarray) -> np.ndarray:
+    """Return the method auto picks for each comparison, as an object array."""
+    size = min_expected.shape[0]
+    if opts.null_value != score.NO_EFFECT[opts.effect]:
+        return np.full(size, "score", dtype=object)
+    largest = np.maximum(n1, n2)
+    # Not "< threshold": a count that is not at least the threshold (NaN included) is not trusted.
+    below = ~(min_expected >= EXPECTED_COUNT_THRESHOLD)
+    methods = np.full(size, "z-pooled", dtype=object)
+    methods[below & (largest <= exact.MAX_TRIALS_PER_GROUP_BOSCHLOO)] = "boschloo-exact"
+    methods[below & (largest > exact.MAX_TRIALS_PER_GROUP_BOSCHLOO) & (largest <= exact.MAX_TRIALS_FISHER)] = (
+        "fisher-exact"
+    )
+    methods[below & ~(largest <= exact.MAX_TRIALS_FISHER)] = "score"
+    return methods
+
+
+def planned_methods(treatment_successes, treatment_trials, control_successes, control_trials,
+                    options: Options) -> list[str]:
+    """Return the test :func:`compare` runs on each comparison (``auto`` resolved) without running it.
+
+    Lets a caller bound the cost of a request (exact tests are expensive) before computing it.
+    """
+    x1, n1 = as_counts(treatment_successes, treatment_trials, "treatment")
+    x2, n2 = as_counts(control_successes, control_trials, "control")
+    if options.method != "auto":
+        return [options.method] * x1.shape[0]
+    min_expected = _min_expected_counts(x1, n1, x2, n2, options)
+    return _auto_methods(options, min_expected, n1, n2).tolist()
 
 
 def _run_method(name: str, x1, n1, x2, n2, opts: Options):
@@ -360,7 +523,7 @@ def _run_method(name: str, x1, n1, x2, n2, opts: Options):
             "boschloo-exact": exact.boschloo_exact,
             "barnard-exact": exact.barnard_exact,
         }[name]
-        _check_exact_size(name, n1, n2)
+        check_exact_size(name, n1, n2)
         stat = np.full(x1.shape, np.nan)
         p = np.empty(x1.shape)
         for i in range(x1.shape[0]):
@@ -373,7 +536,8 @@ def _run_method(name: str, x1, n1, x2, n2, opts: Options):
     raise AssertionError(f"unhandled method {name}")
 
 
-def _check_exact_size(name: str, n1, n2) -> None:
+def check_exact_size(name: str, n1, n2) -> None:
+    """Raise a ValueError suggesting a normal-approximation method when an exact test would be too large."""
     limit = {
         "fisher-exact": exact.MAX_TRIALS_FISHER,
         "boschloo-exact": exact.MAX_TRIALS_PER_GROUP_BOSCHLOO,
@@ -386,65 +550,89 @@ def _check_exact_size(name: str, n1, n2) -> None:
         )
 
 
-def _test_intervals(x1, n1, x2, n2, methods, opts: Options):
-    """Return the interval reported with each test: same effect, level and sidedness as the test."""
-    confidence = 1.0 - opts.alpha
-    z = z_one_sided(confidence) if opts.alternative != "two-sided" else z_one_sided(1.0 - opts.alpha / 2.0)
+def _test_intervals(x1, n1, x2, n2, method_groups: dict[str, np.ndarray], opts: Options,
+                    interval_alpha: float | None = None):
+    """Return the interval reported with each test: same effect and sidedness as the test.
+
+    The level is that of the test (``1 - alpha``) unless ``interval_alpha`` asks for another one.
+    """
+    level_alpha = opts.alpha if interval_alpha is None else interval_alpha
+    confidence = 1.0 - level_alpha
+    z = z_one_sided(confidence) if opts.alternative != "two-sided" else z_one_sided(1.0 - level_alpha / 2.0)
     z_lower = np.full(x1.shape, np.inf if opts.alternative == "less" else z)
     z_upper = np.full(x1.shape, np.inf if opts.alternative == "greater" else z)
-    names = np.array([_interval_method(m, opts, n1[i], n2[i], x1[i] + x2[i]) for i, m in enumerate(methods)],
-                     dtype=object)
+    names = np.empty(x1.shape[0], dtype=object)
+    for method, idx in method_groups.items():
+        names[idx] = _interval_methods(method, opts, n1[idx], n2[idx], x1[idx] + x2[idx])
     lower = np.empty(x1.shape)
     upper = np.empty(x1.shape)
-    for name in dict.fromkeys(names.tolist()):
-        idx = np.flatnonzero(names == name)
-        lower[idx], upper[idx] = effect_bounds(
-            opts.effect, x1[idx], n1[idx], x2[idx], n2[idx], name, z_lower[idx], z_upper[idx]
-        )
-    return lower, upper, names, confidence
+    # A one-sided bound multiplies an infinite critical value by a zero standard error (Wald with rates
+    # of 0 or 1); the open side is replaced by the edge of the parameter space afterwards.
+    with np.errstate(invalid="ignore"):
+        for name, idx in _index_groups(names).items():
+            lower[idx], upper[idx] = effect_bounds(
+                opts.effect, x1[idx], n1[idx], x2[idx], n2[idx], name, z_lower[idx], z_upper[idx]
+            )
+    return lower, upper, names.tolist(), confidence
 
 
-def _interval_method(method: str, opts: Options, n1, n2, successes) -> str:
+def _interval_methods(method: str, opts: Options, n1, n2, successes):
+    """Return the interval method reported with ``method`` for each comparison (a str or an object array)."""
     if method in ("z-pooled", "chi-square"):
         # The Farrington-Manning score statistic at no effect is the pooled z statistic, so this
         # interval excludes the null exactly when the (uncorrected) test rejects.
         return "farrington-manning"
     if method == "z-unpooled":
         return "wald-cc" if opts.continuity_correction else "wald"
-    if (
-        method == "fisher-exact"
-        and opts.effect == "odds-ratio"
-        and min(successes, n1 + n2 - successes) <= MAX_TRIALS_CONDITIONAL_EXACT
-    ):
-        return "conditional-exact"
+    if method == "fisher-exact" and opts.effect == "odds-ratio":
+        small_margin = np.minimum(successes, n1 + n2 - successes) <= MAX_TRIALS_CONDITIONAL_EXACT
+        return np.where(small_margin, "conditional-exact", "miettinen-nurminen").astype(object)
     return "miettinen-nurminen"
 
 
-def _warnings(opts: Options, method, x1, n1, x2, n2, min_expected, stat, p) -> list[str]:
-    notes: list[str] = []
-    if method in ("z-pooled", "z-unpooled", "chi-square", "score") and min_expected < EXPECTED_COUNT_THRESHOLD:
-        notes.append(
-            f"the smallest expected count under the null is {significant_digits(min_expected)}, below "
-            f"{EXPECTED_COUNT_THRESHOLD:g}: the normal approximation may be poor; an exact test is safer"
-        )
-    if np.isnan(stat) and method in ("z-pooled", "chi-square"):
-        notes.append("every trial in both groups had the same outcome: the data carry no evidence of a difference")
-    if np.isnan(stat) and method == "z-unpooled":
-        notes.append(
-            "the unpooled standard error is 0 (each rate is 0 or 1), so the Wald test is undefined; use score "
-            "or an exact test"
-        )
-    if opts.effect == "ratio" and x2 == 0:
-        notes.append("the relative lift is undefined: the control group has no successes")
-    elif opts.effect != "ratio" and x2 == 0 and x1 > 0:
-        notes.append("the relative lift is undefined: the control group has no successes")
-    if opts.continuity_correction and method in ("z-pooled", "chi-square"):
-        notes.append(
-            "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
-        )
-    if not np.isnan(p) and p == 0.0:
-        notes.append("the p-value is below the smallest positive double; see log10_p_value")
-    return notes
+def _warnings(opts: Options, methods: np.ndarray, x1, x2, min_expected, stat, p) -> list[tuple[str, ...]]:
+    """Return the cautions of each comparison (a shared empty tuple where there are none)."""
+    size = methods.shape[0]
+    normal = np.isin(methods, ("z-pooled", "z-unpooled", "chi-square", "score"))
+    pooled = np.isin(methods, ("z-pooled", "chi-square"))
+    no_stat = np.isnan(stat)
+    small = normal & (min_expected < EXPECTED_COUNT_THRESHOLD)
+    same_outcome = no_stat & pooled
+    wald_undefined = no_stat & (methods == "z-unpooled")
+    if opts.effect == "ratio":
+        no_lift = x2 == 0
+    else:
+        no_lift = (x2 == 0) & (x1 > 0)
+    uncorrected = pooled if opts.continuity_correction else np.zeros(size, dtype=bool)
+    underflow = p == 0.0
+    flagged = small | same_outcome | wald_undefined | no_lift | uncorrected | underflow
+    out: list[tuple[str, ...]] = [()] * size
+    for i in np.flatnonzero(flagged).tolist():
+        notes = []
+        if small[i]:
+            notes.append(
+                f"the smallest expected count under the null is {significant_digits(float(min_expected[i]))}, "
+                f"below {EXPECTED_COUNT_THRESHOLD:g}: the normal approximation may be poor; an exact test is safer"
+            )
+        if same_outcome[i]:
+            notes.append(
+                "every trial in both groups had the same outcome: the data carry no evidence of a difference"
+            )
+        if wald_undefined[i]:
+            notes.append(
+                "the unpooled standard error is 0 (each rate is 0 or 1), so the Wald test is undefined; use score "
+                "or an exact test"
+            )
+        if no_lift[i]:
+            notes.append("the relative lift is undefined: the control group has no successes")
+        if uncorrected[i]:
+            notes.append(
+                "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
+            )
+        if underflow[i]:
+            notes.append("the p-value is below the smallest positive double; see log10_p_value")
+        out[i] = tuple(notes)
+    return out
 
 
 def _format_effect(effect: str, value: float | None, signed: bool = True) -> str:
@@ -456,42 +644,53 @@ def _format_effect(effect: str, value: float | None, signed: bool = True) -> str
     return significant_digits(value)
 
 
-def _with_summary(r: TestResult) -> TestResult:
-    e = r.estimate
-    conf = _level(r.interval.confidence)
-    if r.effect == "difference":
-        effect_text = f"a difference of {_format_effect('difference', e.difference)} percentage points"
+def _summaries(opts: Options, confidence: float, methods, treatment_rates, control_rates, differences, lifts,
+               odds_ratios, lowers, uppers, p_values, log10_p_values, rejects) -> list[str]:
+    """Return the one-sentence summary of each comparison."""
+    conf = _level(confidence)
+    level = _level(opts.alpha)
+    null_text = _null_text(opts.effect, opts.alternative, opts.null_value)
+    effect = opts.effect
+    if effect == "difference":
+        effect_texts = [f"a difference of {100.0 * d:+.2f} percentage points" for d in differences]
         unit = " points"
-    elif r.effect == "ratio":
-        ratio = None if e.relative_lift is None else e.relative_lift + 1.0
-        effect_text = "a ratio of " + ("undefined" if ratio is None else significant_digits(ratio))
+    elif effect == "ratio":
+        effect_texts = ["a ratio of " + ("undefined" if lift is None else significant_digits(lift + 1.0))
+                        for lift in lifts]
         unit = ""
     else:
-        effect_text = "an odds ratio of " + ("undefined" if e.odds_ratio is None else significant_digits(e.odds_ratio))
+        effect_texts = ["an odds ratio of " + ("undefined" if o is None else significant_digits(o))
+                        for o in odds_ratios]
         unit = ""
-    lo = _format_effect(r.effect, r.interval.lower)
-    hi = _format_effect(r.effect, r.interval.upper)
-    if r.alternative == "greater":
-        bounds = f"{conf} lower bound {lo}{unit}"
-    elif r.alternative == "less":
-        bounds = f"{conf} upper bound {hi}{unit}"
+    if effect == "difference":
+        # _format_effect, inlined: this runs once or twice per comparison of a batch.
+        lower_texts = ["unbounded" if lo is None else f"{100.0 * lo:+.2f}" for lo in lowers]
+        upper_texts = ["unbounded" if hi is None else f"{100.0 * hi:+.2f}" for hi in uppers]
     else:
-        bounds = f"{conf} CI {lo} to {hi}{unit}"
-    head = (
-        f"Treatment {percent(e.treatment_rate, 2)} vs control {percent(e.control_rate, 2)}: {effect_text} ({bounds})"
-    )
-    level = _level(r.alpha)
-    if r.p_value is None:
-        verdict = f"the {METHOD_NAMES[r.method]} is undefined for these counts"
+        lower_texts = [_format_effect(effect, lo) for lo in lowers]
+        upper_texts = [_format_effect(effect, hi) for hi in uppers]
+    if opts.alternative == "greater":
+        bounds = [f"{conf} lower bound {lo}{unit}" for lo in lower_texts]
+    elif opts.alternative == "less":
+        bounds = [f"{conf} upper bound {hi}{unit}" for hi in upper_texts]
     else:
-        p_text = _format_p(r.p_value, r.log10_p_value)
-        null_text = _null_text(r)
-        if r.reject_null:
-            verdict = f"p = {p_text}, so the data show {null_text} at the {level} level"
+        bounds = [f"{conf} CI {lo} to {hi}{unit}" for lo, hi in zip(lower_texts, upper_texts, strict=True)]
+    show = f"so the data show {null_text} at the {level} level"
+    no_show = f"so the data do not show {null_text} at the {level} level"
+    out = []
+    for method, tr, cr, effect_text, bound, p, log10p, reject in zip(
+        methods, treatment_rates, control_rates, effect_texts, bounds, p_values, log10_p_values, rejects,
+        strict=True,
+    ):
+        name = METHOD_NAMES[method]
+        if p is None:
+            verdict = f"the {name} is undefined for these counts"
         else:
-            verdict = f"p = {p_text}, so the data do not show {null_text} at the {level} level"
-    text = f"{head}; {verdict} ({METHOD_NAMES[r.method]})."
-    return TestResult(**{**{f: getattr(r, f) for f in TestResult.__slots__}, "summary": text})
+            verdict = f"p = {_format_p(p, log10p)}, {show if reject else no_show}"
+        out.append(
+            f"Treatment {100.0 * tr:.2f}% vs control {100.0 * cr:.2f}%: {effect_text} ({bound}); {verdict} ({name})."
+        )
+    return out
 
 
 def _level(fraction: float) -> str:
@@ -499,16 +698,16 @@ def _level(fraction: float) -> str:
     return percent(fraction, 0 if abs(fraction * 100 - round(fraction * 100)) < 1e-9 else 1)
 
 
-def _null_text(r: TestResult) -> str:
-    name = {"difference": "difference", "ratio": "ratio", "odds-ratio": "odds ratio"}[r.effect]
-    no_effect = r.null_value == score.NO_EFFECT[r.effect]
-    value = f"{100 * r.null_value:+g} percentage points" if r.effect == "difference" else f"{r.null_value:g}"
-    if r.alternative == "two-sided":
+def _null_text(effect: str, alternative: str, null_value: float) -> str:
+    name = {"difference": "difference", "ratio": "ratio", "odds-ratio": "odds ratio"}[effect]
+    no_effect = null_value == score.NO_EFFECT[effect]
+    value = f"{100 * null_value:+g} percentage points" if effect == "difference" else f"{null_value:g}"
+    if alternative == "two-sided":
         return "a difference between the rates" if no_effect else f"a {name} other than {value}"
-    word = "higher" if r.alternative == "greater" else "lower"
+    word = "higher" if alternative == "greater" else "lower"
     if no_effect:
         return f"a {word} treatment rate"
-    return f"a {name} {'above' if r.alternative == 'greater' else 'below'} {value}"
+    return f"a {name} {'above' if alternative == 'greater' else 'below'} {value}"
 
 
 def _format_p(p: float, log10p: float | None) -> str:
@@ -517,5 +716,3 @@ def _format_p(p: float, log10p: float | None) -> str:
     if p > 0:
         return f"{p:.2e}"
     return f"10^{log10p:.1f}" if log10p is not None else "0"
-
-
