@@ -12,8 +12,8 @@ The reference is statsmodels' ``proportions_ztest`` called once per comparison i
 100,000 comparisons the loop is timed on 10,000 and scaled (it is linear). The ratio of the two is printed
 with the target (50x, DESIGN.md section 5), then the worker's peak resident memory (VmHWM).
 
-A /v1/tests answer carries more than a z-test: the score interval that matches the test (found by
-bisection), the estimates, the reason for the method, warnings and a summary sentence. The second
+A /v1/tests answer carries more than a z-test: the score interval that matches the test (found by a
+root search), the estimates, the reason for the method, warnings and a summary sentence. The second
 reference, ``proportions_ztest`` plus ``confint_proportions_2indep(method="score")`` per comparison, does
 comparable work; and a breakdown measured in-process shows where the batch's time goes.
 """
@@ -147,7 +147,7 @@ def breakdown(size: int) -> None:
     for name, a, b in zip(steps, marks, marks[1:], strict=False):
         print(f"  {name:<36} {1e6 * (b - a) / size:9.2f}")
     print(f"    of which the matching score interval {1e6 * spent['interval'] / size:9.2f}  "
-          "(Farrington-Manning, 2 x 64 bisection steps of the restricted MLE)")
+          "(Farrington-Manning: a root search over the restricted MLE, stats/score.py)")
     print(f"  answer size                          {len(body) / size:9.0f} bytes per comparison")
 
 

@@ -25,7 +25,10 @@ class Number(fields.Float):
     def _deserialize(self, value, attr, data, **kwargs):
         if isinstance(value, bool) or not isinstance(value, int | float):
             raise ValidationError("must be a number, not " + _kind(value))
-        value = float(value)
+        try:
+            value = float(value)
+        except OverflowError:
+            raise ValidationError("must be a finite number (this one is too large to represent)") from None
         if not math.isfinite(value):
             raise ValidationError("must be a finite number")
         return value

@@ -139,3 +139,37 @@ def test_an_unexpected_error_is_a_generic_500_without_internals(app, monkeypatch
     assert r.mimetype == "application/problem+json"
     assert "secret" not in r.get_data(as_text=True)
     assert "Traceback" not in r.get_data(as_text=True)
+
+
+@pytest.mark.parametrize(("path", "body", "field"), [
+    # Found by review: integers beyond the float range once raised OverflowError (a 500).
+    ("/v1/tests", {**GOOD, "alpha": 10**400}, "alpha"),
+    ("/v1/tests", {**GOOD, "null_value": 10**400, "method": "score"}, "null_value"),
+    ("/v1/intervals", {**GOOD, "confidence": 10**400}, "confidence"),
+    ("/v1/sample-size", {"baseline_rate": 10**400, "expected_rate": 0.5}, "baseline_rate"),
+    # A ratio null value whose square overflows float64 once reached the core (a 500).
+    ("/v1/tests", {**GOOD, "method": "score", "effect": "ratio", "null_value": 1e160}, "null_value"),
+    ("/v1/guardrail", {**GOOD, "margin": 1e200, "margin_type": "relative", "direction": "lower-is-better"},
+     "margin"),
+])
+def test_huge_numbers_are_422_naming_the_field(client, path, body, field):
+    r = client.post(path, json=body)
+    assert r.status_code == 422, r.get_data(as_text=True)
+    assert field in r.get_json()["errors"]
+
+
+def test_exact_test_with_a_contradicting_interval_says_the_test_decides(client):
+    # compare(5/9 vs 0/5) with Boschloo: p = 0.06 (not significant) while the Miettinen-Nurminen interval
+    # excludes 0 (found by review). The answer must say which one decides.
+    body = client.post("/v1/tests", json={"treatment": {"successes": 5, "trials": 9},
+                                          "control": {"successes": 0, "trials": 5},
+                                          "method": "boschloo-exact"}).get_json()
+    assert body["reject_null"] is False and body["interval"]["lower"] > 0
+    assert any("the test's p-value decides" in w for w in body["warnings"])
+
+
+def test_conditional_exact_interval_is_bounded_in_cost(client):
+    r = client.post("/v1/intervals", json={"effect": "odds-ratio", "method": "conditional-exact",
+                                           "treatment": {"successes": 50000, "trials": 100000},
+                                           "control": {"successes": 40000, "trials": 100000}})
+    assert r.status_code == 422 and "method" in r.get_json()["errors"]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from ..errors import field_error
 from ..stats import intervals, twogroup
 from .batch import columns_from_items, run_columns
 
@@ -30,5 +31,9 @@ def run_interval(data: dict) -> intervals.Interval:
         return intervals.interval("proportion", data["method"], data["confidence"],
                                   successes=g["successes"], trials=g["trials"])
     t, c = data["treatment"], data["control"]
-    return intervals.interval(data["effect"], data["method"], data["confidence"],
-                              treatment=(t["successes"], t["trials"]), control=(c["successes"], c["trials"]))
+    try:
+        return intervals.interval(data["effect"], data["method"], data["confidence"],
+                                  treatment=(t["successes"], t["trials"]), control=(c["successes"], c["trials"]))
+    except ValueError as exc:
+        # The counts passed the schema, so what the core refuses is the method at this size.
+        raise field_error(str(exc), getattr(exc, "field", "method")) from exc

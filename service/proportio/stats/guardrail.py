@@ -158,6 +158,8 @@ def check_margin(margin: float, margin_type: str = "absolute", direction: str = 
         raise ValueError(f"margin must be a positive finite number, got {margin!r}")
     if margin_type == "absolute" and m >= 1.0:
         raise ValueError(f"an absolute margin is a difference of rates and must be below 1, got {m:g}")
+    if margin_type == "relative" and m > 1e5:
+        raise ValueError(f"a relative margin above 1e5 (a ratio beyond 10^5) cannot be told from no bound, got {m:g}")
     if margin_type == "relative" and direction == "higher-is-better" and m >= 1.0:
         raise ValueError(
             f"a relative margin when higher is better must be below 1 (a ratio bound of 1 - margin), got {m:g}"

@@ -32,8 +32,10 @@ DEFAULT_METHOD = {
     "ratio": "miettinen-nurminen",
     "odds-ratio": "miettinen-nurminen",
 }
-# Cornfield's exact interval enumerates the conditional support; its cost grows with the smaller margin.
-MAX_TRIALS_CONDITIONAL_EXACT = 1_000_000
+# Cornfield's exact interval enumerates the conditional support; its cost grows faster than the smaller
+# margin (0.16 s at 1,000, 0.45 s at 2,000, 1.3 s at 5,000 here), so larger tables get a 422 (or, reported
+# with Fisher's test, the Miettinen-Nurminen interval).
+MAX_TRIALS_CONDITIONAL_EXACT = 2_000  # about 0.5 s here at the limit
 
 
 @dataclass(frozen=True, slots=True)

@@ -60,6 +60,9 @@ METHOD_EFFECTS = {
     "barnard-exact": EFFECTS,
 }
 EXPECTED_COUNT_THRESHOLD = 5.0  # common practice, no published source
+# A ratio or odds ratio beyond 10^6 cannot be told from infinity with counts up to 10^12 (and its square
+# would overflow float64 near 1e154).
+MAX_RATIO_NULL = 1e6
 METHOD_NAMES = {
     "z-pooled": "pooled z-test",
     "z-unpooled": "unpooled z-test",
@@ -156,8 +159,10 @@ def check_options(
         raise ValueError("null_value must be a finite number")
     if effect == "difference" and not (-1.0 < null < 1.0):
         raise ValueError("null_value for a difference must lie strictly between -1 and 1")
-    if effect != "difference" and null <= 0.0:
-        raise ValueError(f"null_value for a {effect} must be positive (1 means no effect)")
+    if effect != "difference" and not (0.0 < null <= MAX_RATIO_NULL):
+        raise ValueError(
+            f"null_value for a {effect} must be positive and at most {MAX_RATIO_NULL:g} (1 means no effect)"
+        )
     if method in EQUALITY_METHODS and null != no_effect:
         raise ValueError(
             f'method "{method}" tests no effect only (null_value {no_effect:g}); '
@@ -316,9 +321,23 @@ def results_from_columns(cols: TestColumns) -> list[TestResult]:
 def _to_list(values: np.ndarray, undefined: np.ndarray) -> list:
     """``values`` as a list of Python floats with None wherever ``undefined`` holds."""
     out = values.tolist()
-    for i in np.flatnonzero(undefined).tolist():
-        out[i] = None
+    if undefined.any():
+        for i in np.flatnonzero(undefined).tolist():
+            out[i] = None
     return out
+
+
+# Below this many comparisons a Python set lookup per label beats np.isin, whose fixed cost on an object
+# array is several microseconds (a single request is one comparison).
+_SMALL = 64
+
+
+def _is_one_of(labels: np.ndarray, names: tuple[str, ...]) -> np.ndarray:
+    """``np.isin(labels, names)`` for an object array of method names."""
+    if labels.shape[0] > _SMALL:
+        return np.isin(labels, names)
+    wanted = frozenset(names)
+    return np.array([label in wanted for label in labels.tolist()], dtype=bool)
 
 
 def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None) -> TestColumns:
@@ -353,10 +372,11 @@ def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None
     log10_list = _to_list(log10p, ~np.isfinite(log10p))
     method_list = methods.tolist()
     if opts.continuity_correction:
-        cc = np.isin(methods, ("z-pooled", "z-unpooled", "chi-square")).tolist()
+        cc = _is_one_of(methods, ("z-pooled", "z-unpooled", "chi-square")).tolist()
     else:
         cc = [False] * x1.shape[0]
     warnings = _warnings(opts, methods, x1, x2, min_expected, stat, p)
+    warnings = _add_interval_warnings(warnings, opts, methods, x1, n1, x2, n2, lower, upper, p)
     summaries = _summaries(
         opts, confidence, method_list, p1.tolist(), p2.tolist(), diff.tolist(), lift, odds_list, lower_list,
         upper_list, p_list, log10_list, reject,
@@ -593,8 +613,8 @@ def _interval_methods(method: str, opts: Options, n1, n2, successes):
 def _warnings(opts: Options, methods: np.ndarray, x1, x2, min_expected, stat, p) -> list[tuple[str, ...]]:
     """Return the cautions of each comparison (a shared empty tuple where there are none)."""
     size = methods.shape[0]
-    normal = np.isin(methods, ("z-pooled", "z-unpooled", "chi-square", "score"))
-    pooled = np.isin(methods, ("z-pooled", "chi-square"))
+    normal = _is_one_of(methods, ("z-pooled", "z-unpooled", "chi-square", "score"))
+    pooled = _is_one_of(methods, ("z-pooled", "chi-square"))
     no_stat = np.isnan(stat)
     small = normal & (min_expected < EXPECTED_COUNT_THRESHOLD)
     same_outcome = no_stat & pooled
@@ -630,7 +650,41 @@ def _warnings(opts: Options, methods: np.ndarray, x1, x2, min_expected, stat, p)
                 "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
             )
         if underflow[i]:
-            notes.append("the p-value is below the smallest positive double; see log10_p_value")
+            notes.append("the p-value is below the smallest positive double (about 1e-308); log10_p_value gives "
+                         "its size where the method can compute it")
+        out[i] = tuple(notes)
+    return out
+
+
+def _add_interval_warnings(warnings, opts: Options, methods, x1, n1, x2, n2, lower, upper, p):
+    """Add the cautions about the reported interval and undefined estimates to each comparison's warnings.
+
+    An exact test is reported with a score (or conditional) interval that does not invert it, so near the
+    significance boundary the two can disagree; where they do, the warning says that the test decides.
+    """
+    null = opts.null_value
+    with np.errstate(invalid="ignore"):
+        excludes = (lower > null) | (upper < null)
+    rejects = p <= opts.alpha
+    exact_methods = _is_one_of(methods, EXACT_METHODS)
+    disagree = exact_methods & ~np.isnan(p) & (excludes != rejects)
+    undefined_or = (opts.effect == "odds-ratio") & (((x1 == 0) | (x1 == n1)) & ((x2 == 0) | (x2 == n2)))
+    unbounded_or = (opts.effect == "odds-ratio") & ~undefined_or & ((x2 == 0) | (x1 == n1))
+    no_success = (opts.effect != "ratio") & (x1 == 0) & (x2 == 0)
+    out = list(warnings)
+    for i in np.flatnonzero(disagree | undefined_or | unbounded_or | no_success).tolist():
+        notes = list(out[i])
+        if disagree[i]:
+            notes.append(
+                f"the {METHOD_NAMES[methods[i]]} and the reported interval disagree on this table (the interval "
+                "does not invert an exact test); the test's p-value decides"
+            )
+        if undefined_or[i]:
+            notes.append("the odds ratio is undefined: each group's trials all had the same outcome")
+        if unbounded_or[i]:
+            notes.append("the odds ratio is unbounded: the control has no successes or the treatment no failures")
+        if no_success[i]:
+            notes.append("the relative lift is undefined: neither group has a success")
         out[i] = tuple(notes)
     return out
 
