@@ -95,3 +95,19 @@ def test_tiny_p_values_keep_a_finite_log10(client):
     expected = (math.log(2) - z * z / 2 - math.log(z) - 0.5 * math.log(2 * math.pi)) / math.log(10)
     assert body["log10_p_value"] == pytest.approx(expected, rel=1e-9)
     assert any("log10_p_value" in w for w in body["warnings"])
+
+
+@pytest.mark.parametrize("counts", [(10**12 - 30, 10**12, 10**12 - 10, 10**12), (30, 10**12, 10, 10**12)])
+def test_pooled_z_keeps_precision_for_rates_near_0_and_1_at_10_12_trials(client, counts):
+    # Reference: the pooled z statistic evaluated in exact rational arithmetic (the definition), then rounded.
+    from fractions import Fraction
+
+    xt, nt, xc, nc = counts
+    pooled = Fraction(xt + xc, nt + nc)
+    diff = Fraction(xt, nt) - Fraction(xc, nc)
+    z = float(diff) / math.sqrt(float(pooled * (1 - pooled) * (Fraction(1, nt) + Fraction(1, nc))))
+    body = client.post("/v1/tests", json={"control": {"successes": xc, "trials": nc},
+                                          "treatment": {"successes": xt, "trials": nt},
+                                          "method": "z-pooled"}).get_json()
+    assert body["statistic"] == pytest.approx(z, rel=1e-12)
+    assert body["estimate"]["difference"] == pytest.approx(float(diff), rel=1e-12)

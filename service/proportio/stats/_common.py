@@ -71,6 +71,17 @@ def _integral_floats(arr: np.ndarray) -> bool:
     return bool(np.issubdtype(arr.dtype, np.floating) and np.all(np.isfinite(arr)) and np.all(arr == np.round(arr)))
 
 
+def rate_difference(x1, n1, x2, n2):
+    """Return ``x1/n1 - x2/n2`` computed from whichever of successes or failures are fewer.
+
+    Two rates near 1 differ by less than their rounding error allows (1 - 1e-11 is stored to about
+    1e-16 absolute, which is 1e-5 of a difference of 1e-11); the failure rates carry the same difference
+    with full relative precision.
+    """
+    failures_fewer = (x1 + x2) > 0.5 * (n1 + n2)
+    return np.where(failures_fewer, (n2 - x2) / n2 - (n1 - x1) / n1, x1 / n1 - x2 / n2)
+
+
 def z_two_sided(confidence: float) -> float:
     """Return the standard normal quantile leaving (1 - confidence)/2 in each tail."""
     return float(special.ndtri(0.5 + confidence / 2.0))

@@ -14,7 +14,7 @@ import numpy as np
 from scipy import special, stats
 
 from . import score
-from ._common import as_counts, check_confidence, check_method, z_two_sided
+from ._common import as_counts, check_confidence, check_method, rate_difference, z_two_sided
 
 PROPORTION_METHODS = ("wilson", "wilson-cc", "clopper-pearson", "jeffreys", "agresti-coull", "wald")
 DIFFERENCE_METHODS = ("newcombe", "miettinen-nurminen", "farrington-manning", "agresti-caffo", "wald", "wald-cc")
@@ -251,7 +251,7 @@ def rate_estimates(x1, n1, x2, n2):
         ratio = np.where(x2 > 0, p1 / np.where(x2 > 0, p2, 1.0), np.nan)
         odds_ratio = (x1 * (n2 - x2)) / ((n1 - x1) * x2)
     odds_ratio = np.where(np.isfinite(odds_ratio), odds_ratio, np.nan)
-    return p1, p2, p1 - p2, ratio, odds_ratio
+    return p1, p2, rate_difference(x1, n1, x2, n2), ratio, odds_ratio
 
 
 def effect_bounds(effect: str, x1, n1, x2, n2, method: str, z_lower, z_upper):

@@ -40,6 +40,7 @@ from ._common import (
     chi2_1df_p_value,
     normal_p_value,
     percent,
+    rate_difference,
     significant_digits,
     z_one_sided,
 )
@@ -504,8 +505,9 @@ def _run_method(name: str, x1, n1, x2, n2, opts: Options):
     alt = opts.alternative
     if name in ("z-pooled", "chi-square"):
         pooled = (x1 + x2) / (n1 + n2)
-        se = np.sqrt(pooled * (1.0 - pooled) * (1.0 / n1 + 1.0 / n2))
-        d = x1 / n1 - x2 / n2
+        # The complement from the failure count keeps its relative precision when the rate is near 1.
+        se = np.sqrt(pooled * ((n1 - x1 + n2 - x2) / (n1 + n2)) * (1.0 / n1 + 1.0 / n2))
+        d = rate_difference(x1, n1, x2, n2)
         if opts.continuity_correction:
             d = np.sign(d) * np.maximum(np.abs(d) - 0.5 * (1.0 / n1 + 1.0 / n2), 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -522,8 +524,8 @@ def _run_method(name: str, x1, n1, x2, n2, opts: Options):
     if name == "z-unpooled":
         p1 = x1 / n1
         p2 = x2 / n2
-        se = np.sqrt(p1 * (1.0 - p1) / n1 + p2 * (1.0 - p2) / n2)
-        d = p1 - p2 - opts.null_value
+        se = np.sqrt(p1 * ((n1 - x1) / n1) / n1 + p2 * ((n2 - x2) / n2) / n2)
+        d = rate_difference(x1, n1, x2, n2) - opts.null_value
         if opts.continuity_correction:
             d = np.sign(d) * np.maximum(np.abs(d) - 0.5 * (1.0 / n1 + 1.0 / n2), 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
