@@ -75,15 +75,23 @@ def test_metrics_need_their_token_and_sum_every_worker(server):
                    and s.labels["status"] == "200")
 
     before = served()
-    pids = set()
-    for _ in range(40):
-        r = requests.post(server.url + "/v1/tests", json=BODY, timeout=30)
-        assert r.status_code == 200
-    for line in server.log_records():
-        if line.get("path") == "/v1/tests" and line.get("status") == 200:
-            pids.add(line["pid"])
-    assert served() == before + 40
-    assert len(pids) == 2  # both workers served some, and the scrape (answered by one) saw all 40
+    # Send from several threads at once so that both workers take some (one idle worker can otherwise
+    # accept every connection on a loaded machine); keep going, bounded, until both have served.
+    from concurrent.futures import ThreadPoolExecutor
+
+    def send(_):
+        return requests.post(server.url + "/v1/tests", json=BODY, timeout=30).status_code
+
+    sent = 0
+    pids: set = set()
+    with ThreadPoolExecutor(max_workers=4) as pool:
+        while sent < 400 and len(pids) < 2:
+            assert set(pool.map(send, range(40))) == {200}
+            sent += 40
+            pids = {line["pid"] for line in server.log_records()
+                    if line.get("path") == "/v1/tests" and line.get("status") == 200}
+    assert len(pids) == 2, "both workers should have served some of the requests"
+    assert served() == before + sent  # the scrape, answered by one worker, counts every worker's requests
 
 
 def test_logs_are_json_lines_on_stdout(server):
