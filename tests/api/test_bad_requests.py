@@ -173,3 +173,10 @@ def test_conditional_exact_interval_is_bounded_in_cost(client):
                                            "treatment": {"successes": 50000, "trials": 100000},
                                            "control": {"successes": 40000, "trials": 100000}})
     assert r.status_code == 422 and "method" in r.get_json()["errors"]
+
+
+def test_a_difference_null_too_small_to_resolve_is_422(client):
+    # A null of 5e-324 once made the restricted variance underflow, so 0/10 vs 0/20 "rejected" at p = 0
+    # while its interval contained the null (found by a hypothesis seed).
+    r = client.post("/v1/tests", json={**GOOD, "method": "score", "null_value": 5e-324})
+    assert r.status_code == 422 and "null_value" in r.get_json()["errors"]

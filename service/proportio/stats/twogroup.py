@@ -64,6 +64,8 @@ EXPECTED_COUNT_THRESHOLD = 5.0  # common practice, no published source
 # A ratio or odds ratio beyond 10^6 cannot be told from infinity with counts up to 10^12 (and its square
 # would overflow float64 near 1e154).
 MAX_RATIO_NULL = 1e6
+# Counts of at most 10^12 cannot resolve a difference below 10^-12 from 0.
+MIN_DIFFERENCE_NULL = 1e-13
 METHOD_NAMES = {
     "z-pooled": "pooled z-test",
     "z-unpooled": "unpooled z-test",
@@ -160,6 +162,9 @@ def check_options(
         raise ValueError("null_value must be a finite number")
     if effect == "difference" and not (-1.0 < null < 1.0):
         raise ValueError("null_value for a difference must lie strictly between -1 and 1")
+    if effect == "difference" and 0.0 < abs(null) < MIN_DIFFERENCE_NULL:
+        # Below this the restricted variance underflows: such a null cannot be told from 0.
+        raise ValueError(f"null_value for a difference must be 0 or at least {MIN_DIFFERENCE_NULL:g} in size")
     if effect != "difference" and not (0.0 < null <= MAX_RATIO_NULL):
         raise ValueError(
             f"null_value for a {effect} must be positive and at most {MAX_RATIO_NULL:g} (1 means no effect)"
