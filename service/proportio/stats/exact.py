@@ -30,7 +30,6 @@ from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 from scipy.special import gammaln
 
 __all__ = [
@@ -525,6 +524,9 @@ def _polish(
 
     def negative(x: float) -> float:
         return -float(poly(np.array([x]))[0][0])
+
+    # Imported here: scipy.optimize costs ~0.35 s of start-up that most callers never need.
+    from scipy.optimize import minimize_scalar
 
     found = minimize_scalar(negative, bounds=(left, right), method="bounded", options={"xatol": 1e-15})
     if found.success and -found.fun > best:

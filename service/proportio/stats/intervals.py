@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import special, stats
+from scipy import special
 
 from . import score
 from ._common import as_counts, check_confidence, check_method, rate_difference, z_two_sided
@@ -222,11 +222,14 @@ def _conditional_exact_bounds(x1, n1, x2, n2, z_lower, z_upper):
             "conditional-exact needs the smaller table margin (total successes or total failures) to be at "
             f"most {MAX_TRIALS_CONDITIONAL_EXACT:,}; use miettinen-nurminen for tables this large"
         )
+    # Imported here: scipy.stats costs ~0.3 s of start-up that most callers (a CI gate) never need.
+    from scipy.stats import contingency
+
     lower = np.empty(np.shape(x1))
     upper = np.empty(np.shape(x1))
     for i in np.ndindex(np.shape(x1)):
         table = np.array([[x1[i], n1[i] - x1[i]], [x2[i], n2[i] - x2[i]]], dtype=np.int64)
-        res = stats.contingency.odds_ratio(table, kind="conditional")
+        res = contingency.odds_ratio(table, kind="conditional")
         lo = up = None
         if np.isfinite(z_lower[i]):
             conf = 1.0 - 2.0 * float(special.ndtr(-z_lower[i]))
