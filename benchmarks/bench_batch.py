@@ -38,7 +38,7 @@ TARGET = 50.0
 
 
 def _e2e_helpers():
-    spec = importlib.util.spec_from_file_location("e2e_conftest", ROOT / "tests" / "e2e" / "conftest.py")
+    spec = importlib.util.spec_from_file_location("gunicorn_server", ROOT / "tests" / "gunicorn_server.py")
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)
     return module

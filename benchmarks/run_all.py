@@ -11,7 +11,7 @@ Every ratio reads "higher is better": the reference's time over ours, or our thr
 reference's. Sections:
 
 http     POST /v1/tests served by the service's gunicorn command and configuration (docker/gunicorn.conf.py,
-         as tests/e2e/conftest.py starts it) against a bare Flask JSON endpoint (benchmarks/bare_app.py) under
+         as tests/gunicorn_server.py starts it) against a bare Flask JSON endpoint (benchmarks/bare_app.py) under
          the same command, settings and worker count; both servers run at once and a real HTTP load
          generator (wrk if it is on PATH, else threads with http.client) alternates between them, A B A B.
 batch    POST /v1/batch with 1 to 100,000 comparisons end to end against a loop of statsmodels'
@@ -110,7 +110,7 @@ def machine() -> str:
 
 
 def start_server(app: str | None, workers: int, env: dict[str, str] | None = None):
-    """Start gunicorn exactly as tests/e2e/conftest.py does, serving ``app`` (None: the service)."""
+    """Start gunicorn exactly as tests/gunicorn_server.py does, serving ``app`` (None: the service)."""
     helpers = bench_batch._e2e_helpers()  # a fresh copy of the module: patching it touches nothing else
     if app is not None:
         command = helpers.container_command
