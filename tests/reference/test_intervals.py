@@ -42,7 +42,6 @@ from statistics import NormalDist
 
 import numpy as np
 import pytest
-from scipy.optimize import brentq
 from scipy.stats.contingency import odds_ratio as scipy_odds_ratio
 from statsmodels.stats.proportion import (
     confint_proportions_2indep,
@@ -52,6 +51,7 @@ from statsmodels.stats.proportion import (
 
 from proportio.stats import intervals, score
 from proportio.stats.intervals import interval
+from reference_support import restricted_difference_reference  # tests/ is on sys.path
 
 N01 = NormalDist()
 Z975 = N01.inv_cdf(0.975)  # 1.959963984540054, computed without scipy
@@ -631,28 +631,6 @@ def test_odds_ratio_score_upper_limit_solves_the_score_equation(table):
     assert ref == pytest.approx(-Z975, abs=1e-6)
 
 
-def _restricted_difference_reference(x1, n1, x2, n2, d):
-    """Restricted MLE of (p1, p2) under p1 - p2 = d from the score equation of the constrained
-    likelihood, solved by scipy.optimize.brentq (concave likelihood: one sign change)."""
-
-    def g(p2):
-        p1 = p2 + d
-        return (
-            (x1 / p1 if x1 else 0.0)
-            - ((n1 - x1) / (1 - p1) if n1 > x1 else 0.0)
-            + (x2 / p2 if x2 else 0.0)
-            - ((n2 - x2) / (1 - p2) if n2 > x2 else 0.0)
-        )
-
-    lo, hi = max(0.0, -d), min(1.0, 1.0 - d)
-    a, b = (lo * (1 + 1e-14) if lo > 0 else 1e-300), hi - 1e-15
-    if g(a) <= 0:
-        return a + d, a
-    if g(b) >= 0:
-        return b + d, b
-    p2 = brentq(g, a, b, xtol=1e-300, rtol=1e-15, maxiter=500)
-    return p2 + d, p2
-
 
 # Regression: rare events in huge groups once defeated the closed-form restricted MLE (fixed by
 # Newton polishing with a bracketed fallback in score._difference_root).
@@ -674,7 +652,7 @@ def test_score_difference_interval_for_rare_events_in_large_groups(table):
     r = interval("difference", "miettinen-nurminen", treatment=(x1, n1), control=(x2, n2))
     big_n = n1 + n2
     for limit, target in ((r.lower, Z975), (r.upper, -Z975)):
-        q1, q2 = _restricted_difference_reference(x1, n1, x2, n2, limit)
+        q1, q2 = restricted_difference_reference(x1, n1, x2, n2, limit)
         var = (q1 * (1 - q1) / n1 + q2 * (1 - q2) / n2) * big_n / (big_n - 1)
         z = (x1 / n1 - x2 / n2 - limit) / math.sqrt(var)
         assert z == pytest.approx(target, abs=1e-6)

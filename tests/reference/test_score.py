@@ -27,11 +27,12 @@ import warnings
 
 import numpy as np
 import pytest
-from scipy.optimize import brentq, minimize_scalar
+from scipy.optimize import minimize_scalar
 from scipy.special import expit, xlog1py, xlogy
 from statsmodels.stats.proportion import proportions_ztest, score_test_proportions_2indep
 
 from proportio.stats import score
+from reference_support import restricted_difference_reference  # tests/ is on sys.path
 
 EFFECTS = ("difference", "ratio", "odds-ratio")
 SM_COMPARE = {"difference": "diff", "ratio": "ratio", "odds-ratio": "odds-ratio"}
@@ -399,28 +400,6 @@ def test_odds_ratio_statistic_tends_to_zero_when_control_has_only_successes():
         assert z30 - 1e-12 <= z <= 0.0, log_psi
 
 
-def _restricted_difference_reference(x1, n1, x2, n2, d):
-    """Restricted MLE under p1 - p2 = d from the score equation of the constrained likelihood
-    (scipy.optimize.brentq; the likelihood is concave in p2, so the derivative changes sign once)."""
-
-    def g(p2):
-        p1 = p2 + d
-        return (
-            (x1 / p1 if x1 else 0.0)
-            - ((n1 - x1) / (1 - p1) if n1 > x1 else 0.0)
-            + (x2 / p2 if x2 else 0.0)
-            - ((n2 - x2) / (1 - p2) if n2 > x2 else 0.0)
-        )
-
-    lo, hi = max(0.0, -d), min(1.0, 1.0 - d)
-    a, b = (lo * (1 + 1e-14) if lo > 0 else 1e-300), hi - 1e-15
-    if g(a) <= 0:
-        return a + d, a
-    if g(b) >= 0:
-        return b + d, b
-    p2 = brentq(g, a, b, xtol=1e-300, rtol=1e-15, maxiter=500)
-    return p2 + d, p2
-
 
 # Regression: rare events in huge groups once defeated the closed-form restricted MLE (fixed by
 # Newton polishing with a bracketed fallback in score._difference_root).
@@ -446,7 +425,7 @@ def _rare(table, d):
 def test_restricted_difference_rates_for_rare_events(table, d):
     # Reference: the score equation of the constrained likelihood solved by brentq; 1e-6 relative on each
     # rate and on its complement (the small one of the two carries the information near 1).
-    ref1, ref2 = _restricted_difference_reference(*table, d)
+    ref1, ref2 = restricted_difference_reference(*table, d)
     q1, q2, c1, c2 = score.restricted_rates_difference_full(*f64(*table), d)
     assert float(q1) == pytest.approx(ref1, rel=1e-6, abs=1e-300)
     assert float(q2) == pytest.approx(ref2, rel=1e-6, abs=1e-300)
