@@ -683,7 +683,7 @@ def _add_interval_warnings(warnings, opts: Options, methods, x1, n1, x2, n2, low
         notes = list(out[i])
         if disagree[i]:
             notes.append(
-                f"the {METHOD_NAMES[methods[i]]} and the reported interval disagree on this table (the interval "
+                f"{METHOD_NAMES[methods[i]]} and the reported interval disagree on this table (the interval "
                 "does not invert an exact test); the test's p-value decides"
             )
         if undefined_or[i]:
