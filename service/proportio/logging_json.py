@@ -10,7 +10,8 @@ import time
 import orjson
 
 # Attributes every LogRecord has; anything else on a record came in through ``extra=`` and is emitted.
-_STANDARD = frozenset(vars(logging.LogRecord("", 0, "", 0, "", (), None))) | {"message", "asctime", "taskName"}
+_STANDARD = (frozenset(vars(logging.LogRecord("", 0, "", 0, "", (), None)))
+             | {"message", "asctime", "taskName"})
 
 
 class JsonFormatter(logging.Formatter):
@@ -44,6 +45,18 @@ class JsonFormatter(logging.Formatter):
 
 _handler: logging.Handler | None = None
 
+# os.getpid() is a system call on every line otherwise; refreshed in every child a fork makes (gunicorn's
+# workers), so it is always this process's id.
+_pid = os.getpid()
+
+
+def _refresh_pid() -> None:
+    global _pid
+    _pid = os.getpid()
+
+
+os.register_at_fork(after_in_child=_refresh_pid)
+
 
 def log_fields(logger: logging.Logger, message: str, fields: dict) -> None:
     """Log ``message`` at INFO with ``fields``, as ``logger.info(message, extra=fields)`` would.
@@ -54,7 +67,9 @@ def log_fields(logger: logging.Logger, message: str, fields: dict) -> None:
     if not logger.isEnabledFor(logging.INFO):
         return
     handler = _handler
-    if handler is None or logger.handlers or logger.parent is None or logger.parent.handlers != [handler]:
+    parent = logger.parent
+    if (handler is None or logger.handlers or parent is None or len(parent.handlers) != 1
+            or parent.handlers[0] is not handler):
         logger.info(message, extra=fields)
         return
     now = time.time()
@@ -63,8 +78,8 @@ def log_fields(logger: logging.Logger, message: str, fields: dict) -> None:
     if second != formatter._second:
         formatter._stamp = time.strftime("%Y-%m-%dT%H:%M:%S", time.gmtime(second))
         formatter._second = second
-    out = {"time": f"{formatter._stamp}.{int((now - second) * 1000):03d}Z", "level": "info", "logger": logger.name,
-           "message": message, "pid": os.getpid()}
+    out = {"time": f"{formatter._stamp}.{int((now - second) * 1000):03d}Z", "level": "info",
+           "logger": logger.name, "message": message, "pid": _pid}
     for key, value in fields.items():
         if value is not None:
             out[key] = value

@@ -40,15 +40,18 @@ REQUESTS = Counter("proportio_http_requests", "HTTP requests answered, by endpoi
                    ["endpoint", "method", "status"], registry=REGISTRY)
 LATENCY = Histogram("proportio_http_request_duration_seconds", "Time from routing to response, by endpoint.",
                     ["endpoint"], registry=REGISTRY,
-                    buckets=(0.0005, 0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30))
+                    buckets=(0.0005, 0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10,
+                             30))
 METHODS_USED = Counter("proportio_statistical_methods", "Requests answered with each statistical method.",
                        ["endpoint", "method"], registry=REGISTRY)
 EXACT_DURATION = Histogram("proportio_exact_test_duration_seconds",
                            "Computation time of requests answered by an exact method.", ["method"],
-                           registry=REGISTRY, buckets=(0.001, 0.005, 0.01, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30))
+                           registry=REGISTRY,
+                           buckets=(0.001, 0.005, 0.01, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30))
 
 # Label children are looked up once per distinct label set, not on every request.
 _children: dict[tuple, Any] = {}
+_instrument_sets: dict[tuple, tuple] = {}
 
 # What the worker is doing now, for the log line gunicorn's timeout hook writes before the worker dies.
 CURRENT: dict[str, Any] = {}
@@ -98,6 +101,21 @@ def _child(metric, *labels: str):
     return child
 
 
+def _instruments(endpoint: str, method: str, status: int, stat_method: str | None) -> tuple:
+    """The metric updates of one kind of request: (count, observe latency, count method, observe exact)."""
+    key = (endpoint, method, status, stat_method)
+    found = _instrument_sets.get(key)
+    if found is None:
+        count_method = observe_exact = None
+        if stat_method is not None:
+            count_method = _child(METHODS_USED, endpoint, stat_method).inc
+            if stat_method in EXACT_METHODS:
+                observe_exact = _child(EXACT_DURATION, stat_method).observe
+        found = _instrument_sets[key] = (_child(REQUESTS, endpoint, method, str(status)).inc,
+                                         _child(LATENCY, endpoint).observe, count_method, observe_exact)
+    return found
+
+
 def install(app: Flask) -> None:
     """Add the request hooks and ``GET /metrics`` to ``app`` (reads its PROPORTIO_* config now)."""
     app.register_blueprint(bp)
@@ -107,14 +125,17 @@ def install(app: Flask) -> None:
 
     @app.before_request
     def _start():
-        g.started = perf_counter()
+        started = perf_counter()
         req = request._get_current_object()  # type: ignore[attr-defined]
-        incoming = req.headers.get("X-Request-ID")
+        state = g._get_current_object()  # type: ignore[attr-defined]
+        state.started = started
+        # The header as EnvironHeaders.get("X-Request-ID") reads it, without building the headers object.
+        incoming = req.environ.get("HTTP_X_REQUEST_ID")
         # An id only has to be unique in the logs, not secret: the seeded PRNG (gunicorn reseeds each
         # worker) is enough and far cheaper than the kernel's entropy.
         request_id = (incoming if incoming and len(incoming) <= MAX_REQUEST_ID and incoming.isprintable()
                       else f"{getrandbits(128):032x}")
-        g.request_id = CURRENT["request_id"] = request_id
+        state.request_id = CURRENT["request_id"] = request_id
         CURRENT["path"] = req.path
         # A CORS preflight carries no credentials by design; it only learns what the real request may send.
         if tokens and req.path.startswith("/v1/") and req.method != "OPTIONS":
@@ -124,8 +145,9 @@ def install(app: Flask) -> None:
     def _finish(response: Response) -> Response:
         CURRENT.clear()
         req = request._get_current_object()  # type: ignore[attr-defined]
+        state = g._get_current_object()  # type: ignore[attr-defined]
         headers = response.headers
-        request_id = getattr(g, "request_id", "")
+        request_id = getattr(state, "request_id", "")
         headers["X-Request-ID"] = request_id
         headers["X-Content-Type-Options"] = "nosniff"
         path = req.path
@@ -135,18 +157,21 @@ def install(app: Flask) -> None:
             _cors(response, origins)
         if path in UNCOUNTED:
             return response
-        elapsed = perf_counter() - getattr(g, "started", perf_counter())
+        elapsed = perf_counter() - getattr(state, "started", perf_counter())
         rule = req.url_rule
         endpoint = rule.rule if rule is not None else "unmatched"
-        method = req.method if req.method in HTTP_METHODS else "other"
+        method = req.method
+        if method not in HTTP_METHODS:
+            method = "other"
         status = response.status_code
-        _child(REQUESTS, endpoint, method, str(status)).inc()
-        _child(LATENCY, endpoint).observe(elapsed)
-        stat_method = getattr(g, "stat_method", None)
-        if stat_method is not None:
-            _child(METHODS_USED, endpoint, stat_method).inc()
-            if stat_method in EXACT_METHODS:
-                _child(EXACT_DURATION, stat_method).observe(getattr(g, "compute_seconds", elapsed))
+        stat_method = getattr(state, "stat_method", None)
+        count, observe, count_method, observe_exact = _instruments(endpoint, method, status, stat_method)
+        count()
+        observe(elapsed)
+        if count_method is not None:
+            count_method()
+            if observe_exact is not None:
+                observe_exact(getattr(state, "compute_seconds", elapsed))
         log_fields(log, "request", {
             "request_id": request_id, "method": req.method, "path": path, "status": status,
             "duration_ms": round(1000 * elapsed, 3), "statistical_method": stat_method,

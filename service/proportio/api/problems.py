@@ -77,17 +77,19 @@ def _reject_constant(name: str) -> None:
 
 def parse_json_body() -> Any:
     """Return the decoded JSON body, or raise the 415 / 400 / 413 problem that fits."""
-    mimetype = request.mimetype or ""
+    req = request._get_current_object()  # type: ignore[attr-defined]
+    mimetype = req.mimetype or ""
     if mimetype != "application/json" and not mimetype.endswith("+json"):
         raise Problem(415, "send the body as JSON with Content-Type: application/json",
                       {"Content-Type": [f"expected application/json, got {mimetype or 'nothing'}"]})
     try:
-        raw = request.get_data(cache=False)
+        raw = req.get_data(cache=False)
     except RequestEntityTooLarge as exc:
         raise Problem(413, _too_large_detail(), _TOO_LARGE) from exc
-    if request.content_length is None and len(raw) >= (request.max_content_length or len(raw) + 1):
+    # The length test first: it settles every body under the limit without parsing the headers again.
+    if len(raw) >= (req.max_content_length or len(raw) + 1) and req.content_length is None:
         # A streamed (chunked) body is cut at the limit rather than refused: look for a byte beyond it.
-        if request.environ["wsgi.input"].read(1):
+        if req.environ["wsgi.input"].read(1):
             raise Problem(413, _too_large_detail(), _TOO_LARGE)
     if not raw.strip():
         raise Problem(400, "the request body is empty; send a JSON object", {"body": ["empty body"]})

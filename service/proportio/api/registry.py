@@ -13,6 +13,7 @@ from marshmallow import Schema, ValidationError
 
 from ..errors import field_error  # noqa: F401  (re-exported for views)
 from ..schemas import flatten_errors
+from ..schemas.base import compile_dump, compile_load
 from .problems import Problem, parse_json_body
 
 
@@ -34,7 +35,8 @@ OPERATIONS: list[Operation] = []
 
 def json_response(payload, status: int = 200) -> Response:
     """Serialise with orjson; NaN or infinities, should any slip through, become null."""
-    return Response(orjson.dumps(payload), status=status, mimetype="application/json")
+    # content_type rather than mimetype: the same header, without working out whether a charset belongs in it.
+    return Response(orjson.dumps(payload), status=status, content_type="application/json")
 
 
 def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | None = None,
@@ -50,6 +52,9 @@ def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | Non
     def decorate(fn: Callable) -> Callable:
         req = request() if request else None
         resp = response() if response else None
+        # The same load and dump as the schemas' own, compiled once instead of interpreted per request.
+        load = compile_load(req) if req is not None else None
+        dump = compile_dump(resp) if resp is not None else None
         doc = (fn.__doc__ or "").strip()
         summary, _, description = doc.partition("\n")
 
@@ -62,7 +67,7 @@ def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | Non
                 if not isinstance(payload, dict):
                     raise Problem(422, "the body must be a JSON object", {"body": ["expected a JSON object"]})
                 try:
-                    data = req.load(payload)
+                    data = load(payload)
                 except ValidationError as exc:
                     raise Problem(422, "the request does not meet the contract; see errors",
                                   flatten_errors(exc.messages)) from exc
@@ -74,7 +79,7 @@ def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | Non
                 _note_method(result, perf_counter() - started)
             if isinstance(result, Response):
                 return result
-            return json_response(resp.dump(result) if resp is not None else result)
+            return json_response(dump(result) if dump is not None else result)
 
         bp.add_url_rule(path, endpoint=fn.__name__, view_func=view, methods=[method])
         default_errors = (400, 413, 415, 422) if req is not None else ()
@@ -86,11 +91,13 @@ def operation(bp: Blueprint, path: str, *, tag: str, request: type[Schema] | Non
 
 
 def _note_method(result, seconds: float) -> None:
-    """Put the statistical method of ``result`` (attribute or key ``method``) in flask.g for the log and metrics.
+    """Put the statistical method of ``result`` (attribute or key ``method``) in flask.g for log and metrics.
 
     A view whose result has no single method may set ``g.stat_method`` itself.
     """
     method = result.get("method") if isinstance(result, dict) else getattr(result, "method", None)
-    if isinstance(method, str) and "stat_method" not in g:
-        g.stat_method = method
-        g.compute_seconds = seconds
+    if isinstance(method, str):
+        state = g._get_current_object()  # type: ignore[attr-defined]
+        if "stat_method" not in state:
+            state.stat_method = method
+            state.compute_seconds = seconds
