@@ -27,7 +27,7 @@ auto
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -66,6 +66,10 @@ EXPECTED_COUNT_THRESHOLD = 5.0  # common practice, no published source
 MAX_RATIO_NULL = 1e6
 # Counts of at most 10^12 cannot resolve a difference below 10^-12 from 0.
 MIN_DIFFERENCE_NULL = 1e-13
+# The parts of a comparison's outcome that compare_columns can skip: the interval (a root search per limit
+# for the score intervals), the reason auto gives for its choice, and the summary sentence (which quotes
+# the interval, so it needs it). The tests, estimates, assumptions and warnings are always computed.
+OPTIONAL_PARTS = frozenset({"interval", "reason", "summary"})
 METHOD_NAMES = {
     "z-pooled": "pooled z-test",
     "z-unpooled": "unpooled z-test",
@@ -239,7 +243,8 @@ class TestColumns:
 
     The lists hold exactly the values the result objects carry (Python floats, ``None`` where a quantity is
     undefined or unbounded), so a batch can be written out without building an object per comparison.
-    ``p_values`` is the p-value array with NaN where the test is undefined.
+    ``p_values`` is the p-value array with NaN where the test is undefined. A field of an optional part
+    that was not asked for (see :data:`OPTIONAL_PARTS`) is None instead of a list.
     """
 
     options: Options
@@ -266,7 +271,71 @@ class TestColumns:
     p_values: np.ndarray
 
     def __len__(self) -> int:
-        return len(self.summary)
+        return len(self.statistic)
+
+
+@dataclass(frozen=True, slots=True)
+class TestArrays:
+    """The outcomes of many comparisons sharing one set of options, as numpy arrays (see :class:`TestColumns`).
+
+    Floats are NaN where a quantity is undefined; infinite statistics, bounds and odds ratios are unbounded
+    ones. The text fields (``method_reason``, ``interval_method``, ``warnings``, ``summary``) are lists;
+    ``method`` is an object array. A field of an optional part not asked for is None.
+    """
+
+    options: Options
+    statistic: np.ndarray
+    p_value: np.ndarray
+    log10_p_value: np.ndarray
+    method: np.ndarray
+    method_reason: list | None
+    continuity_correction: np.ndarray
+    control_rate: np.ndarray
+    treatment_rate: np.ndarray
+    difference: np.ndarray
+    relative_lift: np.ndarray
+    odds_ratio: np.ndarray
+    interval_method: list | None
+    interval_confidence: float
+    lower: np.ndarray | None
+    upper: np.ndarray | None
+    min_expected_count: np.ndarray
+    normal_approximation_ok: np.ndarray
+    warnings: list
+    summary: list | None
+
+    def __len__(self) -> int:
+        return int(self.statistic.shape[0])
+
+    def reject_null_list(self) -> list:
+        """``p_value <= alpha`` for each comparison, None where the p-value is undefined."""
+        return _to_list(self.p_value <= self.options.alpha, np.isnan(self.p_value))
+
+
+def compare_arrays(
+    treatment_successes,
+    treatment_trials,
+    control_successes,
+    control_trials,
+    *,
+    method: str = "auto",
+    alternative: str = "two-sided",
+    null_value: float | None = None,
+    effect: str = "difference",
+    alpha: float = 0.05,
+    continuity_correction: bool = False,
+    interval_alpha: float | None = None,
+    parts: frozenset[str] = OPTIONAL_PARTS,
+) -> TestArrays:
+    """Run :func:`compare_columns` and return the outcomes as arrays (see :class:`TestArrays`).
+
+    For callers that write many comparisons out column by column: the arrays are not turned into lists
+    of Python objects, which costs more than the tests. The values are those of :func:`compare_columns`.
+    """
+    opts, x1, n1, x2, n2, interval_alpha, parts = _checked(
+        treatment_successes, treatment_trials, control_successes, control_trials, method, alternative,
+        null_value, effect, alpha, continuity_correction, interval_alpha, parts)
+    return _compare_arrays(x1, n1, x2, n2, opts, interval_alpha, parts)
 
 
 def compare_columns(
@@ -282,11 +351,27 @@ def compare_columns(
     alpha: float = 0.05,
     continuity_correction: bool = False,
     interval_alpha: float | None = None,
+    parts: frozenset[str] = OPTIONAL_PARTS,
 ) -> TestColumns:
     """Run :func:`compare` and return its results as columns (see :class:`TestColumns`).
 
     ``compare`` is this function followed by :func:`results_from_columns`, so the two never disagree.
+    ``parts`` names the optional parts to compute (all by default; see :data:`OPTIONAL_PARTS`): a caller that
+    only needs the tests skips the interval search, the reasons and the summary sentences, which cost more
+    than the tests themselves. What is computed does not depend on ``parts``.
     """
+    opts, x1, n1, x2, n2, interval_alpha, parts = _checked(
+        treatment_successes, treatment_trials, control_successes, control_trials, method, alternative,
+        null_value, effect, alpha, continuity_correction, interval_alpha, parts)
+    return _compare_columns(x1, n1, x2, n2, opts, interval_alpha, parts)
+
+
+def _checked(treatment_successes, treatment_trials, control_successes, control_trials, method, alternative,
+             null_value, effect, alpha, continuity_correction, interval_alpha, parts):
+    """Check the arguments of compare_columns / compare_arrays and return them converted."""
+    unknown = set(parts) - OPTIONAL_PARTS
+    if unknown:
+        raise ValueError(f"unknown parts {sorted(unknown)}; use some of {sorted(OPTIONAL_PARTS)}")
     opts = check_options(method, alternative, null_value, effect, alpha, continuity_correction)
     if interval_alpha is not None:
         interval_alpha = float(interval_alpha)
@@ -296,7 +381,7 @@ def compare_columns(
     x2, n2 = as_counts(control_successes, control_trials, "control")
     if x1.shape != x2.shape:
         raise ValueError("treatment and control must hold the same number of comparisons")
-    return _compare_columns(x1, n1, x2, n2, opts, interval_alpha)
+    return opts, x1, n1, x2, n2, interval_alpha, frozenset(parts)
 
 
 def results_from_columns(cols: TestColumns) -> list[TestResult]:
@@ -333,30 +418,40 @@ def _to_list(values: np.ndarray, undefined: np.ndarray) -> list:
     return out
 
 
-# Below this many comparisons a Python set lookup per label beats np.isin, whose fixed cost on an object
-# array is several microseconds (a single request is one comparison).
-_SMALL = 64
+def _is_one_of(groups: dict[str, np.ndarray], names: tuple[str, ...], size: int) -> np.ndarray:
+    """Mask of the comparisons whose method is one of ``names``, from the index groups of the methods.
+
+    Cheaper than comparing an object array of method names (``np.isin`` costs milliseconds per 100,000).
+    """
+    mask = np.zeros(size, dtype=bool)
+    for name, idx in groups.items():
+        if name in names:
+            mask[idx] = True
+    return mask
 
 
-def _is_one_of(labels: np.ndarray, names: tuple[str, ...]) -> np.ndarray:
-    """``np.isin(labels, names)`` for an object array of method names."""
-    if labels.shape[0] > _SMALL:
-        return np.isin(labels, names)
-    wanted = frozenset(names)
-    return np.array([label in wanted for label in labels.tolist()], dtype=bool)
+def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None,
+                     parts: frozenset[str] = OPTIONAL_PARTS) -> TestColumns:
+    return _lists_from_arrays(_compare_arrays(x1, n1, x2, n2, opts, interval_alpha, parts))
 
 
-def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None) -> TestColumns:
+def _compare_arrays(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None,
+                    parts: frozenset[str] = OPTIONAL_PARTS) -> TestArrays:
     # Everything is computed on whole arrays; the only loops left run over comparisons that need a
     # string of their own (summary, reason, warnings) or an exact test.
     min_expected = _min_expected_counts(x1, n1, x2, n2, opts)
     normal_ok = min_expected >= EXPECTED_COUNT_THRESHOLD
+    want_summary = "summary" in parts
+    want_interval = want_summary or "interval" in parts
 
-    if opts.method == "auto":
+    reasons: list | None
+    if opts.method == "auto" and "reason" in parts:
         methods, reasons = _auto_choices(opts, min_expected, n1, n2)
+    elif opts.method == "auto":
+        methods, reasons = _auto_methods(opts, min_expected, n1, n2), None
     else:
         methods = np.full(x1.shape[0], opts.method, dtype=object)
-        reasons = [None] * x1.shape[0]
+        reasons = [None] * x1.shape[0] if "reason" in parts else None
 
     stat = np.full(x1.shape, np.nan)
     p = np.full(x1.shape, np.nan)
@@ -365,51 +460,63 @@ def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None
     for name, idx in groups.items():
         stat[idx], p[idx], log10p[idx] = _run_method(name, x1[idx], n1[idx], x2[idx], n2[idx], opts)
 
-    lower, upper, interval_methods, confidence = _test_intervals(x1, n1, x2, n2, groups, opts, interval_alpha)
+    if want_interval:
+        lower, upper, interval_methods, confidence = _test_intervals(x1, n1, x2, n2, groups, opts, interval_alpha)
+    else:
+        lower, upper, confidence = _exact_test_intervals(x1, n1, x2, n2, groups, opts, interval_alpha)
+        interval_methods = None
     p1, p2, diff, ratio, odds = rate_estimates(x1, n1, x2, n2)
 
-    p_undefined = np.isnan(p)
-    p_list = _to_list(p, p_undefined)
-    reject = _to_list(p <= opts.alpha, p_undefined)
-    lift = _to_list(ratio - 1.0, np.isnan(ratio))
-    odds_list = _to_list(odds, ~np.isfinite(odds))
-    lower_list = _to_list(lower, ~np.isfinite(lower))
-    upper_list = _to_list(upper, ~np.isfinite(upper))
-    log10_list = _to_list(log10p, ~np.isfinite(log10p))
-    method_list = methods.tolist()
     if opts.continuity_correction:
-        cc = _is_one_of(methods, ("z-pooled", "z-unpooled", "chi-square")).tolist()
+        cc = _is_one_of(groups, ("z-pooled", "z-unpooled", "chi-square"), x1.shape[0])
     else:
-        cc = [False] * x1.shape[0]
-    warnings = _warnings(opts, methods, x1, x2, min_expected, stat, p)
-    warnings = _add_interval_warnings(warnings, opts, methods, x1, n1, x2, n2, lower, upper, p)
-    summaries = _summaries(
-        opts, confidence, method_list, p1.tolist(), p2.tolist(), diff.tolist(), lift, odds_list, lower_list,
-        upper_list, p_list, log10_list, reject,
+        cc = np.zeros(x1.shape[0], dtype=bool)
+    warnings = _warnings(opts, methods, groups, x1, x2, min_expected, stat, p)
+    warnings = _add_interval_warnings(warnings, opts, methods, groups, x1, n1, x2, n2, lower, upper, p)
+    arrays = TestArrays(
+        options=opts, statistic=stat, p_value=p, log10_p_value=log10p, method=methods, method_reason=reasons,
+        continuity_correction=cc, control_rate=p2, treatment_rate=p1, difference=diff, relative_lift=ratio - 1.0,
+        odds_ratio=odds, interval_method=interval_methods, interval_confidence=confidence,
+        lower=lower if want_interval else None, upper=upper if want_interval else None,
+        min_expected_count=min_expected, normal_approximation_ok=normal_ok, warnings=warnings, summary=None,
     )
+    if not want_summary:
+        return arrays
+    lists = _lists_from_arrays(arrays)
+    summaries = _summaries(
+        opts, confidence, lists.method, lists.treatment_rate, lists.control_rate, lists.difference,
+        lists.relative_lift, lists.odds_ratio, lists.lower, lists.upper, lists.p_value, lists.log10_p_value,
+        lists.reject_null,
+    )
+    return replace(arrays, summary=summaries)
+
+
+def _lists_from_arrays(a: TestArrays) -> TestColumns:
+    """The columns of ``a`` as lists of Python values, None wherever a value is undefined or unbounded."""
+    p_undefined = np.isnan(a.p_value)
     return TestColumns(
-        options=opts,
-        statistic=_to_list(stat, ~np.isfinite(stat)),
-        p_value=p_list,
-        log10_p_value=log10_list,
-        reject_null=reject,
-        method=method_list,
-        method_reason=reasons,
-        continuity_correction=cc,
-        control_rate=p2.tolist(),
-        treatment_rate=p1.tolist(),
-        difference=diff.tolist(),
-        relative_lift=lift,
-        odds_ratio=odds_list,
-        interval_method=interval_methods,
-        interval_confidence=confidence,
-        lower=lower_list,
-        upper=upper_list,
-        min_expected_count=min_expected.tolist(),
-        normal_approximation_ok=normal_ok.tolist(),
-        warnings=warnings,
-        summary=summaries,
-        p_values=p,
+        options=a.options,
+        statistic=_to_list(a.statistic, ~np.isfinite(a.statistic)),
+        p_value=_to_list(a.p_value, p_undefined),
+        log10_p_value=_to_list(a.log10_p_value, ~np.isfinite(a.log10_p_value)),
+        reject_null=a.reject_null_list(),
+        method=a.method.tolist(),
+        method_reason=a.method_reason,
+        continuity_correction=a.continuity_correction.tolist(),
+        control_rate=a.control_rate.tolist(),
+        treatment_rate=a.treatment_rate.tolist(),
+        difference=a.difference.tolist(),
+        relative_lift=_to_list(a.relative_lift, np.isnan(a.relative_lift)),
+        odds_ratio=_to_list(a.odds_ratio, ~np.isfinite(a.odds_ratio)),
+        interval_method=a.interval_method,
+        interval_confidence=a.interval_confidence,
+        lower=None if a.lower is None else _to_list(a.lower, ~np.isfinite(a.lower)),
+        upper=None if a.upper is None else _to_list(a.upper, ~np.isfinite(a.upper)),
+        min_expected_count=a.min_expected_count.tolist(),
+        normal_approximation_ok=a.normal_approximation_ok.tolist(),
+        warnings=a.warnings,
+        summary=a.summary,
+        p_values=a.p_value,
     )
 
 
@@ -603,6 +710,24 @@ def _test_intervals(x1, n1, x2, n2, method_groups: dict[str, np.ndarray], opts: 
     return lower, upper, names.tolist(), confidence
 
 
+def _exact_test_intervals(x1, n1, x2, n2, method_groups: dict[str, np.ndarray], opts: Options,
+                          interval_alpha: float | None):
+    """Return the intervals of the exact-test comparisons only (NaN elsewhere), and the confidence.
+
+    When the intervals are not asked for, the warnings still need them where an exact test may disagree
+    with its interval; those comparisons are few (exact tests are for small tables).
+    """
+    lower = np.full(x1.shape, np.nan)
+    upper = np.full(x1.shape, np.nan)
+    exact_groups = {name: idx for name, idx in method_groups.items() if name in EXACT_METHODS}
+    if exact_groups:
+        sel = np.sort(np.concatenate(list(exact_groups.values())))
+        sub_groups = {name: np.searchsorted(sel, idx) for name, idx in exact_groups.items()}
+        lower[sel], upper[sel], _, _ = _test_intervals(
+            x1[sel], n1[sel], x2[sel], n2[sel], sub_groups, opts, interval_alpha)
+    return lower, upper, 1.0 - (opts.alpha if interval_alpha is None else interval_alpha)
+
+
 def _interval_methods(method: str, opts: Options, n1, n2, successes):
     """Return the interval method reported with ``method`` for each comparison (a str or an object array)."""
     if method in ("z-pooled", "chi-square"):
@@ -617,15 +742,16 @@ def _interval_methods(method: str, opts: Options, n1, n2, successes):
     return "miettinen-nurminen"
 
 
-def _warnings(opts: Options, methods: np.ndarray, x1, x2, min_expected, stat, p) -> list[tuple[str, ...]]:
+def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray], x1, x2, min_expected, stat,
+              p) -> list[tuple[str, ...]]:
     """Return the cautions of each comparison (a shared empty tuple where there are none)."""
     size = methods.shape[0]
-    normal = _is_one_of(methods, ("z-pooled", "z-unpooled", "chi-square", "score"))
-    pooled = _is_one_of(methods, ("z-pooled", "chi-square"))
+    normal = _is_one_of(groups, ("z-pooled", "z-unpooled", "chi-square", "score"), size)
+    pooled = _is_one_of(groups, ("z-pooled", "chi-square"), size)
     no_stat = np.isnan(stat)
     small = normal & (min_expected < EXPECTED_COUNT_THRESHOLD)
     same_outcome = no_stat & pooled
-    wald_undefined = no_stat & (methods == "z-unpooled")
+    wald_undefined = no_stat & _is_one_of(groups, ("z-unpooled",), size)
     if opts.effect == "ratio":
         no_lift = x2 == 0
     else:
@@ -663,7 +789,7 @@ def _warnings(opts: Options, methods: np.ndarray, x1, x2, min_expected, stat, p)
     return out
 
 
-def _add_interval_warnings(warnings, opts: Options, methods, x1, n1, x2, n2, lower, upper, p):
+def _add_interval_warnings(warnings, opts: Options, methods, groups, x1, n1, x2, n2, lower, upper, p):
     """Add the cautions about the reported interval and undefined estimates to each comparison's warnings.
 
     An exact test is reported with a score (or conditional) interval that does not invert it, so near the
@@ -673,7 +799,7 @@ def _add_interval_warnings(warnings, opts: Options, methods, x1, n1, x2, n2, low
     with np.errstate(invalid="ignore"):
         excludes = (lower > null) | (upper < null)
     rejects = p <= opts.alpha
-    exact_methods = _is_one_of(methods, EXACT_METHODS)
+    exact_methods = _is_one_of(groups, EXACT_METHODS, methods.shape[0])
     disagree = exact_methods & ~np.isnan(p) & (excludes != rejects)
     undefined_or = (opts.effect == "odds-ratio") & (((x1 == 0) | (x1 == n1)) & ((x2 == 0) | (x2 == n2)))
     unbounded_or = (opts.effect == "odds-ratio") & ~undefined_or & ((x2 == 0) | (x1 == n1))
