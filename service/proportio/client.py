@@ -21,6 +21,8 @@ sample_size(baseline_rate, ...)        POST /v1/sample-size              n_contr
                                                                          formula, summary (curve with a sweep)
 batch(comparisons)                     POST /v1/batch                    results (a /v1/tests object each, with
                                                                          adjusted_p_value), adjustment, count
+batch_columns(xc, nc, xt, nt)          POST /v1/batch (columns form)     columns (one list per answer field),
+                                                                         options, adjustment, count
 arms(groups)                           POST /v1/arms                     omnibus, comparisons, control, adjustment,
                                                                          summary, warnings
 allocation_check(observed)             POST /v1/allocation-check         statistic, df, p_value, mismatch, arms,
@@ -279,6 +281,25 @@ class Client:
                 items.append({"control": group(control), "treatment": group(treatment)})
         return self._post("/v1/batch", {"comparisons": items, "adjustment": adjustment})
 
+    def batch_columns(self, control_successes, control_trials, treatment_successes, treatment_trials, *,
+                      fields: list[str] | None = None, adjustment: str | None = None, method: str | None = None,
+                      alternative: str | None = None, null_value: float | None = None, effect: str | None = None,
+                      alpha: float | None = None, continuity_correction: bool | None = None) -> dict:
+        """POST /v1/batch in its columnar form: many comparisons sharing one set of /v1/tests options.
+
+        The four counts are sequences (lists or numpy arrays) with one element per comparison. The answer
+        holds ``columns``: one list per field (``fields`` picks them, default all; what is left out is not
+        computed), the same values a /v1/tests answer holds, in the same order; and the shared ``options``.
+        """
+        options = {"method": method, "alternative": alternative, "null_value": null_value, "effect": effect,
+                   "alpha": alpha, "continuity_correction": continuity_correction}
+        columns = {
+            "control": {"successes": _as_list(control_successes), "trials": _as_list(control_trials)},
+            "treatment": {"successes": _as_list(treatment_successes), "trials": _as_list(treatment_trials)},
+            **{k: v for k, v in options.items() if v is not None},
+        }
+        return self._post("/v1/batch", {"columns": columns, "fields": fields, "adjustment": adjustment})
+
     def arms(self, groups: list, *, control: str | None = None, comparisons: str | None = None,
              adjustment: str | None = None, method: str | None = None, effect: str | None = None,
              alternative: str | None = None, alpha: float | None = None,
@@ -325,3 +346,8 @@ def _error_from(response: requests.Response) -> ProportioError:
         type=str(body.get("type", "about:blank")),
         request_id=body.get("request_id") or response.headers.get("X-Request-ID"),
     )
+
+
+def _as_list(values) -> list:
+    """A sequence of counts as a JSON-ready list (numpy arrays included)."""
+    return values.tolist() if hasattr(values, "tolist") else list(values)

@@ -18,6 +18,7 @@ CALLS = {
     "interval": lambda api: api.interval("proportion", group=(1, 2)),
     "sample_size": lambda api: api.sample_size(0.1, expected_rate=0.12),
     "batch": lambda api: api.batch([((1, 2), (1, 2))]),
+    "batch_columns": lambda api: api.batch_columns([1], [2], [1], [2], fields=["p_value"]),
     "arms": lambda api: api.arms([("a", 1, 2), ("b", 1, 2)]),
     "allocation_check": lambda api: api.allocation_check([10, 11]),
     "sequential_plan": lambda api: api.sequential_plan(3),

@@ -5,7 +5,7 @@ One module per resource; everything is re-exported here so callers use ``proport
 
 from .allocation import run_allocation_check  # noqa: F401
 from .arms import run_arms  # noqa: F401
-from .batch import batch_json, run_batch  # noqa: F401
+from .batch import batch_json, columns_json, run_batch, run_batch_columns  # noqa: F401
 from .guardrail import run_guardrail  # noqa: F401
 from .planning import run_sample_size  # noqa: F401
 from .sequential import run_always_valid, run_sequential_analyze, run_sequential_plan  # noqa: F401

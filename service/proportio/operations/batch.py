@@ -7,6 +7,7 @@ batch and the single call can never disagree.
 from __future__ import annotations
 
 import os
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -184,6 +185,19 @@ def compute_batch(data: dict) -> BatchOutcome:
     p = np.empty(len(cols))
     for idx, part in parts:
         p[idx] = part.p_values
+    adjusted, warnings = adjust(p, adjustment)
+    per_part = []
+    for idx, _ in parts:
+        values = adjusted[idx]
+        lst = values.tolist()
+        for i in np.flatnonzero(np.isnan(values)).tolist():
+            lst[i] = None
+        per_part.append(lst)
+    return BatchOutcome(parts, per_part, adjustment, len(cols), warnings)
+
+
+def adjust(p: np.ndarray, adjustment: str) -> tuple[np.ndarray, list[str]]:
+    """Adjust the defined p-values of ``p`` (NaN stays NaN) and return them with the batch's warnings."""
     defined = ~np.isnan(p)
     adjusted = np.full(p.shape, np.nan)
     adjusted[defined] = multiplicity.adjust_p_values(p[defined], adjustment)
@@ -194,14 +208,7 @@ def compute_batch(data: dict) -> BatchOutcome:
             f"{undefined:,} comparison(s) have no p-value (the test is undefined for their counts); they are "
             "left out of the adjustment and their adjusted_p_value is null"
         )
-    per_part = []
-    for idx, _ in parts:
-        values = adjusted[idx]
-        lst = values.tolist()
-        for i in np.flatnonzero(np.isnan(values)).tolist():
-            lst[i] = None
-        per_part.append(lst)
-    return BatchOutcome(parts, per_part, adjustment, len(cols), warnings)
+    return adjusted, warnings
 
 
 def item_dicts(part: twogroup.TestColumns, adjusted: list, start: int = 0, stop: int | None = None) -> list[dict]:
@@ -278,3 +285,77 @@ def batch_json(data: dict) -> bytes:
     tail = orjson.dumps({"adjustment": outcome.adjustment, "count": outcome.count, "warnings": outcome.warnings})
     parts += [b"],", memoryview(tail)[1:]]
     return b"".join(parts)
+
+
+# ------------------------------------------------------------------------------------------------
+# The columnar form: counts in as columns, answers out as columns
+
+
+def _nullable(values: np.ndarray, undefined: np.ndarray) -> list:
+    out = values.tolist()
+    for i in np.flatnonzero(undefined).tolist():
+        out[i] = None
+    return out
+
+
+# Each column of a columnar answer: the optional parts of the core it needs (twogroup.OPTIONAL_PARTS) and
+# how it is read from the arrays and the adjusted p-values. Numeric columns stay numpy arrays, which the
+# JSON encoder writes directly (NaN and infinities as null, exactly where an item holds null).
+COLUMNS: dict[str, tuple[frozenset, Callable]] = {
+    "method": (frozenset(), lambda a, adj: a.method.tolist()),
+    "method_reason": (frozenset({"reason"}), lambda a, adj: a.method_reason),
+    "statistic": (frozenset(), lambda a, adj: a.statistic),
+    "p_value": (frozenset(), lambda a, adj: a.p_value),
+    "log10_p_value": (frozenset(), lambda a, adj: a.log10_p_value),
+    "reject_null": (frozenset(), lambda a, adj: a.reject_null_list()),
+    "adjusted_p_value": (frozenset(), lambda a, adj: adj),
+    "adjusted_reject_null": (frozenset(), lambda a, adj: _nullable(adj <= a.options.alpha, np.isnan(adj))),
+    "continuity_correction": (frozenset(), lambda a, adj: a.continuity_correction),
+    "control_rate": (frozenset(), lambda a, adj: a.control_rate),
+    "treatment_rate": (frozenset(), lambda a, adj: a.treatment_rate),
+    "difference": (frozenset(), lambda a, adj: a.difference),
+    "relative_lift": (frozenset(), lambda a, adj: a.relative_lift),
+    "odds_ratio": (frozenset(), lambda a, adj: a.odds_ratio),
+    "interval_method": (frozenset({"interval"}), lambda a, adj: a.interval_method),
+    "interval_lower": (frozenset({"interval"}), lambda a, adj: a.lower),
+    "interval_upper": (frozenset({"interval"}), lambda a, adj: a.upper),
+    "min_expected_count": (frozenset(), lambda a, adj: a.min_expected_count),
+    "normal_approximation_ok": (frozenset(), lambda a, adj: a.normal_approximation_ok),
+    "warnings": (frozenset(), lambda a, adj: a.warnings),
+    "summary": (frozenset({"summary"}), lambda a, adj: a.summary),
+}
+COLUMN_NAMES = tuple(COLUMNS)
+
+
+def run_batch_columns(data: dict) -> dict:
+    """Run a validated columnar /v1/batch request and return the answer (numeric columns as numpy arrays).
+
+    ``data["columns"]`` holds the counts and one set of options; ``data["fields"]`` (optional) names the
+    columns to answer, and only the parts of the core they need are computed.
+    """
+    cols: ComparisonColumns = data["columns"]
+    wanted = tuple(dict.fromkeys(data.get("fields") or COLUMN_NAMES))
+    check_exact_budget(cols, field="columns.method")
+    ((key, idx),) = cols.groups
+    options = dict(zip(OPTION_NAMES, key, strict=True))
+    parts = frozenset().union(*(COLUMNS[name][0] for name in wanted))
+    arrays = twogroup.compare_arrays(*_counts(cols, idx), parts=parts, **options)
+    adjusted, warnings = adjust(arrays.p_value, data["adjustment"])
+    if "warnings" not in wanted:
+        flagged = sum(1 for notes in arrays.warnings if notes)
+        if flagged:
+            warnings.append(f"{flagged:,} comparison(s) carry warnings of their own; add warnings to fields to "
+                            "see them")
+    o = arrays.options
+    return {
+        "columns": {name: COLUMNS[name][1](arrays, adjusted) for name in wanted},
+        "options": {"method": options["method"], "alternative": o.alternative, "null_value": o.null_value,
+                    "effect": o.effect, "alpha": o.alpha, "continuity_correction": o.continuity_correction,
+                    "interval_confidence": arrays.interval_confidence},
+        "adjustment": data["adjustment"], "count": len(cols), "warnings": warnings,
+    }
+
+
+def columns_json(answer: dict) -> bytes:
+    """Serialise a columnar answer (already dumped through its schema): numpy arrays written directly."""
+    return orjson.dumps(answer, option=orjson.OPT_SERIALIZE_NUMPY)

@@ -11,6 +11,7 @@ a catalogue of bad items.
 
 from __future__ import annotations
 
+import copy
 import math
 from dataclasses import dataclass
 from itertools import repeat
@@ -18,10 +19,11 @@ from operator import itemgetter
 from typing import Any
 
 import numpy as np
-from marshmallow import Schema, ValidationError, fields, validate
+from marshmallow import Schema, ValidationError, fields, post_load, validate, validates_schema
 
 from ..fields import Count, Flag, Number, Text
 from ..operations.batch import (
+    COLUMN_NAMES,
     DEFAULT_MAX_BATCH,
     OPTION_NAMES,
     ComparisonColumns,
@@ -31,7 +33,7 @@ from ..operations.batch import (
 )
 from ..stats import multiplicity, twogroup
 from .base import GroupSchema, StrictSchema
-from .twogroup import TestRequestSchema, TestResponseSchema
+from .twogroup import TestRequestSchema, TestResponseSchema, check_test_options
 
 # At most this many invalid comparisons are described in one error answer.
 MAX_LISTED_ERRORS = 50
@@ -341,18 +343,149 @@ def _fits_float(value: int) -> bool:
         return False
 
 
+# ------------------------------------------------------------------------------------------------
+# The columnar form: one list per count, one set of options
+
+
+class CountColumn(fields.List):
+    """A list of counts, one per comparison, loaded into an int64 array.
+
+    Each element follows the rules of ``count`` (a field of GroupSchema); a whole column of JSON integers is
+    checked at once, and only a column at fault is gone through element by element for the messages
+    (``columns.treatment.successes.17``).
+    """
+
+    def __init__(self, count: fields.Field, **kwargs):
+        super().__init__(copy.deepcopy(count), **kwargs)
+        (self._range,) = [v for v in self.inner.validators if isinstance(v, validate.Range)]
+
+    def _deserialize(self, value, attr, data, **kwargs) -> np.ndarray:
+        if not isinstance(value, list):
+            raise ValidationError("must be a list of counts, one per comparison")
+        if not value:
+            raise ValidationError("send at least one count")
+        limit = max_batch()
+        if len(value) > limit:
+            raise ValidationError(
+                f"at most {limit:,} comparisons are accepted in one request, got {len(value):,}: split the work "
+                "into several requests")
+        if _all_of_type(value, int):
+            try:
+                column = np.array(value, dtype=np.int64)
+            except OverflowError:
+                column = None
+            if column is not None and column.min() >= self._range.min and column.max() <= self._range.max:
+                return column
+        errors: dict[Any, Any] = {}
+        for i, element in enumerate(value):
+            try:
+                self.inner.deserialize(element, **kwargs)
+            except ValidationError as exc:
+                errors[i] = exc.messages
+                if len(errors) >= MAX_LISTED_ERRORS:
+                    errors["_schema"] = [f"only the first {MAX_LISTED_ERRORS} invalid counts are listed"]
+                    break
+        raise ValidationError(errors)
+
+
+def _first_positions(mask: np.ndarray, message: str) -> dict:
+    positions = np.flatnonzero(mask)[:MAX_LISTED_ERRORS].tolist()
+    return {i: [message] for i in positions}
+
+
+class CountColumnsSchema(StrictSchema):
+    """Successes and trials of one group, one element per comparison."""
+
+    successes = CountColumn(GroupSchema._declared_fields["successes"], required=True, metadata={
+        "description": "Successes of each comparison, 0 <= successes <= trials."})
+    trials = CountColumn(GroupSchema._declared_fields["trials"], required=True, metadata={
+        "description": "Trials of each comparison, 1 to 10^12."})
+
+    @validates_schema
+    def _successes_within_trials(self, data, **kwargs):
+        if "successes" not in data or "trials" not in data:
+            return
+        successes, trials = data["successes"], data["trials"]
+        if successes.shape != trials.shape:
+            raise ValidationError(
+                f"holds {successes.shape[0]:,} counts but trials holds {trials.shape[0]:,}: send one of each "
+                "per comparison", field_name="successes")
+        over = successes > trials
+        if over.any():
+            raise ValidationError({"successes": _first_positions(over, "must not exceed trials")})
+
+
+def _option_fields() -> dict[str, fields.Field]:
+    """The option fields of TestRequestSchema (copies: a field belongs to one schema)."""
+    return {name: copy.deepcopy(TestRequestSchema._declared_fields[name]) for name in OPTION_NAMES}
+
+
+class ColumnsSchema(StrictSchema.from_dict(_option_fields(), name="_ColumnOptions")):
+    """Many comparisons sharing one set of options: a /v1/tests request whose counts are lists.
+
+    The options mean what they mean in /v1/tests and apply to every comparison.
+    """
+
+    control = fields.Nested(CountColumnsSchema, required=True)
+    treatment = fields.Nested(CountColumnsSchema, required=True)
+
+    @validates_schema
+    def _consistent(self, data, **kwargs):
+        if "control" in data and "treatment" in data:
+            size_c, size_t = data["control"]["trials"].shape[0], data["treatment"]["trials"].shape[0]
+            if size_c != size_t:
+                raise ValidationError(
+                    f"holds {size_t:,} comparisons but control holds {size_c:,}: send one count of each group "
+                    "per comparison", field_name="treatment")
+        largest = None
+        if "control" in data and "treatment" in data:
+            largest = int(max(data["control"]["trials"].max(), data["treatment"]["trials"].max()))
+        check_test_options(data, largest)
+
+    @post_load
+    def _columns(self, data, **kwargs) -> ComparisonColumns:
+        key = tuple(data[name] for name in OPTION_NAMES)
+        t, c = data["treatment"], data["control"]
+        return ComparisonColumns(t["successes"], t["trials"], c["successes"], c["trials"],
+                                 ((key, np.arange(t["trials"].shape[0])),))
+
+
 class BatchRequestSchema(StrictSchema):
     """Many two-group tests in one request, with an optional multiplicity adjustment."""
 
     comparisons = Comparisons(
-        required=True, validate=validate.Length(min=1),
+        validate=validate.Length(min=1),
         metadata={"description": f"The comparisons, each exactly a /v1/tests request; 1 to {DEFAULT_MAX_BATCH:,} "
-                                 "by default (PROPORTIO_MAX_BATCH). Answered in the same order."})
+                                 "by default (PROPORTIO_MAX_BATCH). Answered in the same order, as `results`. "
+                                 "Send this or `columns`."})
+    columns = fields.Nested(ColumnsSchema, metadata={
+        "description": "The columnar form, for large batches: the comparisons as lists of counts "
+                       "(`control.successes`, `control.trials`, `treatment.successes`, `treatment.trials`, one "
+                       "element per comparison) sharing one set of /v1/tests options. Answered as `columns`, one "
+                       "list per field, in the same order. Send this or `comparisons`."})
+    fields_ = fields.List(
+        Text(validate=validate.OneOf(COLUMN_NAMES)), data_key="fields", attribute="fields",
+        validate=validate.Length(min=1),
+        metadata={"description": "With `columns` only: the answer columns to return (default all). Columns "
+                                 "left out are not computed: the interval, method_reason and summary cost "
+                                 "more than the tests themselves."})
     adjustment = Text(
         load_default="none", validate=validate.OneOf(multiplicity.ADJUSTMENTS),
         metadata={"description": "Multiplicity adjustment of the p-values across the comparisons of this "
                                  "request: none (default), bonferroni, holm, hochberg (family-wise error rate); "
                                  "benjamini-hochberg, benjamini-yekutieli (false discovery rate)."})
+
+
+    @validates_schema
+    def _one_form(self, data, **kwargs):
+        if ("comparisons" in data) == ("columns" in data):
+            raise ValidationError(
+                ("send either comparisons or columns, not both" if "columns" in data else
+                 "send comparisons (a list of /v1/tests requests) or columns (lists of counts sharing one set "
+                 "of options)"), field_name="comparisons")
+        if "fields" in data and "columns" not in data:
+            raise ValidationError("fields selects the columns of a columnar answer: send the comparisons as "
+                                  "columns, or leave fields out", field_name="fields")
 
 
 class BatchItemSchema(TestResponseSchema):
@@ -374,10 +507,69 @@ class _Results(fields.List):
         return value
 
 
-class BatchResponseSchema(Schema):
-    """The answers of a batch, in request order."""
+class _Column(fields.List):
+    """One column of a columnar answer, passed through as built by operations.batch (numpy arrays included).
 
-    results = _Results(metadata={"description": "One answer per comparison, in request order."})
+    The inner field documents the elements in the OpenAPI document; the values were checked when built.
+    """
+
+    def _serialize(self, value, attr, obj, **kwargs):
+        return value
+
+
+def _column(inner: fields.Field, description: str) -> _Column:
+    return _Column(inner, metadata={"description": description})
+
+
+class BatchColumnsSchema(Schema):
+    """The columns of a columnar batch answer: each a list with one element per comparison, in order.
+
+    Each column holds what the field of the same name holds in a /v1/tests answer (interval_lower and
+    interval_upper are interval.lower and interval.upper, the estimate and assumptions fields are flat).
+    """
+
+    method = _column(fields.String(), "The method used.")
+    method_reason = _column(fields.String(allow_none=True), "Why auto chose it (null for other methods).")
+    statistic = _column(fields.Float(allow_none=True), "Test statistic; null when undefined.")
+    p_value = _column(fields.Float(allow_none=True), "p-value; null when undefined.")
+    log10_p_value = _column(fields.Float(allow_none=True), "log10 of the p-value, finite where p underflows.")
+    reject_null = _column(fields.Boolean(allow_none=True), "p_value <= alpha; null when p_value is null.")
+    adjusted_p_value = _column(fields.Float(allow_none=True), "p-value adjusted across the comparisons.")
+    adjusted_reject_null = _column(fields.Boolean(allow_none=True), "adjusted_p_value <= alpha.")
+    continuity_correction = _column(fields.Boolean(), "Whether a continuity correction was applied.")
+    control_rate = _column(fields.Float(), "Control successes / trials.")
+    treatment_rate = _column(fields.Float(), "Treatment successes / trials.")
+    difference = _column(fields.Float(), "treatment rate - control rate")
+    relative_lift = _column(fields.Float(allow_none=True), "ratio - 1; null when undefined.")
+    odds_ratio = _column(fields.Float(allow_none=True), "null when undefined or unbounded.")
+    interval_method = _column(fields.String(), "Interval reported with the test.")
+    interval_lower = _column(fields.Float(allow_none=True), "Lower limit; null when unbounded.")
+    interval_upper = _column(fields.Float(allow_none=True), "Upper limit; null when unbounded.")
+    min_expected_count = _column(fields.Float(), "Smallest expected cell count under the null.")
+    normal_approximation_ok = _column(fields.Boolean(), "min_expected_count >= 5.")
+    warnings = _column(fields.List(fields.String()), "Cautions of each comparison.")
+    summary = _column(fields.String(), "One plain sentence per comparison.")
+
+
+class BatchOptionsSchema(Schema):
+    """The options every comparison of a columnar batch used (null_value resolved to its default)."""
+
+    method = fields.String()
+    alternative = fields.String()
+    null_value = fields.Float()
+    effect = fields.String()
+    alpha = fields.Float()
+    continuity_correction = fields.Boolean()
+    interval_confidence = fields.Float()
+
+
+class BatchResponseSchema(Schema):
+    """The answers of a batch, in request order: `results` for comparisons, `columns` for the columnar form."""
+
+    results = _Results(metadata={"description": "One answer per comparison, in request order (comparisons form)."})
+    columns = fields.Nested(BatchColumnsSchema, metadata={
+        "description": "One list per answer field asked for, one element per comparison (columnar form)."})
+    options = fields.Nested(BatchOptionsSchema, metadata={"description": "The shared options (columnar form)."})
     adjustment = fields.String()
     count = fields.Integer()
     warnings = fields.List(fields.String())

@@ -31,21 +31,32 @@ class TestRequestSchema(StrictSchema):
 
     @validates_schema
     def _consistent(self, data, **kwargs):
-        try:
-            twogroup.check_options(
-                data.get("method", "auto"), data.get("alternative", "two-sided"), data.get("null_value"),
-                data.get("effect", "difference"), data.get("alpha", 0.05), data.get("continuity_correction", False),
-            )
-        except ValueError as exc:
-            raise_for(exc, ("null_value", "continuity_correction", "alternative", "effect", "alpha", "method"),
-                      "method")
-        method = data.get("method", "auto")
-        if method in twogroup.EXACT_METHODS and "control" in data and "treatment" in data:
+        largest = None
+        if "control" in data and "treatment" in data:
             largest = max(data["control"]["trials"], data["treatment"]["trials"])
-            try:
-                twogroup.check_exact_size(method, largest, largest)
-            except ValueError as exc:
-                raise ValidationError(str(exc), field_name="method") from exc
+        check_test_options(data, largest)
+
+
+def check_test_options(data: dict, largest_trials: int | None) -> None:
+    """Raise a ValidationError on the option of a /v1/tests request that breaks a rule of the core.
+
+    ``largest_trials`` is the largest group of the request (None when the groups are invalid): an exact
+    test refuses groups above its limit.
+    """
+    try:
+        twogroup.check_options(
+            data.get("method", "auto"), data.get("alternative", "two-sided"), data.get("null_value"),
+            data.get("effect", "difference"), data.get("alpha", 0.05), data.get("continuity_correction", False),
+        )
+    except ValueError as exc:
+        raise_for(exc, ("null_value", "continuity_correction", "alternative", "effect", "alpha", "method"),
+                  "method")
+    method = data.get("method", "auto")
+    if method in twogroup.EXACT_METHODS and largest_trials is not None:
+        try:
+            twogroup.check_exact_size(method, largest_trials, largest_trials)
+        except ValueError as exc:
+            raise ValidationError(str(exc), field_name="method") from exc
 
 
 class EstimateSchema(Schema):
