@@ -250,13 +250,26 @@ def run_batch(args) -> None:
             loop = sm_per * size if scaled else bench_batch.time_statsmodels(counts) * size
             growth = "" if previous is None else f"; per comparison x{(total / size) / previous:.2f} vs 10x fewer"
             previous = total / size
-            row(f"batch of {size:,}: per comparison", us(total / size), us(loop / size), loop / total,
-                bench_batch.TARGET if size == bench_batch.SIZES[-1] else None,
-                f"whole request {us(total)}{' (loop scaled from ' + f'{loop_size:,})' if scaled else ''}{growth}")
+            row(f"batch of {size:,} items: per comparison", us(total / size), us(loop / size), loop / total,
+                None, f"whole request {us(total)}{' (loop scaled from ' + f'{loop_size:,})' if scaled else ''}"
+                f"{growth}; full /v1/tests answers")
         size = sizes[-1]
-        row(f"batch of {size:,} vs ztest + score interval loop", us(total / size), us(sm_ci_per),
+        row(f"batch of {size:,} items vs ztest + score interval loop", us(total / size), us(sm_ci_per),
             sm_ci_per * size / total,
             note="reference: proportions_ztest + confint_proportions_2indep(score) per comparison, comparable work")
+        print("columnar form: counts sent as lists, answers as columns (the form meant for large batches)")
+        for size in sizes:
+            _, counts = bench_batch.comparisons(size)
+            repeats = 5 if size <= 1_000 else (3 if size <= 10_000 else 2)
+            total = bench_batch.time_columns(session, url, counts, bench_batch.ZTEST_FIELDS, repeats)
+            scaled = size > loop_size
+            loop = sm_per * size if scaled else bench_batch.time_statsmodels(counts) * size
+            row(f"columns of {size:,}, statistic + p_value: per comparison", us(total / size), us(loop / size),
+                loop / total, bench_batch.TARGET if size == bench_batch.SIZES[-1] else None,
+                f"whole request {us(total)}; like for like with proportions_ztest (z and p)")
+        total = bench_batch.time_columns(session, url, counts, None, 1)
+        row(f"columns of {size:,}, every field vs ztest + score CI loop", us(total / size), us(sm_ci_per),
+            sm_ci_per * size / total, note=f"whole request {us(total)}; with interval, reasons, summaries")
         for pid, rss in bench_batch.worker_peak_rss(proc.pid):
             print(f"worker {pid} peak resident memory (VmHWM): {rss / 2**20:.0f} MiB (bar: under 1,024 MiB)")
     finally:

@@ -139,11 +139,13 @@ def check_exact_budget(cols: ComparisonColumns, field: str = "comparisons", what
     for key, idx in cols.groups:
         xt, nt, xc, nc = _counts(cols, idx)
         options = twogroup.check_options(*key)
-        methods = np.asarray(twogroup.planned_methods(xt, nt, xc, nc, options), dtype=object)
-        is_exact = np.isin(methods, twogroup.EXACT_METHODS)
-        count += int(is_exact.sum())
-        unconditional = np.isin(methods, UNCONDITIONAL_EXACT)
-        if unconditional.any():
+        if options.method not in twogroup.EXACT_METHODS and options.method != "auto":
+            continue
+        planned = twogroup.planned_methods(xt, nt, xc, nc, options)
+        # list.count runs in C; np.isin on an object array costs milliseconds per 100,000.
+        count += sum(planned.count(name) for name in twogroup.EXACT_METHODS)
+        if any(planned.count(name) for name in UNCONDITIONAL_EXACT):
+            unconditional = np.isin(np.asarray(planned, dtype=object), UNCONDITIONAL_EXACT)
             cells += int(np.sum((nt[unconditional] + 1).astype(np.float64) * (nc[unconditional] + 1)))
     limit = max_batch_exact()
     if count > limit:

