@@ -2,9 +2,9 @@
 
 A single request computes its difference interval in stats/score.py's scalar path; a batch of more than
 ``_SCALAR_LIMIT`` comparisons in the array code. A batch item and the single call must agree exactly, so
-the two paths must too: any change to the restricted MLE, the statistic or solve_decreasing has to be made
-in both (the batch endpoint's own test groups items by options, so its groups are small and never reach
-the array code).
+the two paths must too: any change to the restricted MLE, the statistic or the limit search (_scalar_limit,
+_newton_limits) has to be made in both (the batch endpoint's own test groups items by options, so its
+groups are small and never reach the array code).
 """
 
 from __future__ import annotations
@@ -44,7 +44,8 @@ def test_the_scalar_path_is_taken_for_ordinary_tables(monkeypatch):
     # Guard against a scalar path that declines everything (and so tests nothing above).
     declined = []
     original = score._difference_interval
-    monkeypatch.setattr(score, "_difference_interval", lambda x1, *a: declined.append(x1.size) or original(x1, *a))
+    monkeypatch.setattr(score, "_difference_interval",
+                        lambda x1, *a: declined.append(x1.size) or original(x1, *a))
     z = np.array([1.959963984540054])
     for x1, n1, x2, n2 in [(471, 9598, 412, 9630), (3, 40, 9, 41), (999_000, 10**6, 998_500, 10**6)]:
         score.score_interval([x1], [n1], [x2], [n2], z, z, "difference", True)
