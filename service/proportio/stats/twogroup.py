@@ -432,7 +432,12 @@ def _is_one_of(groups: dict[str, np.ndarray], names: tuple[str, ...], size: int)
 
 def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None,
                      parts: frozenset[str] = OPTIONAL_PARTS) -> TestColumns:
-    return _lists_from_arrays(_compare_arrays(x1, n1, x2, n2, opts, interval_alpha, parts))
+    if "summary" not in parts:
+        return _lists_from_arrays(_compare_arrays(x1, n1, x2, n2, opts, interval_alpha, parts))
+    # The summaries are written from the lists: build them once.
+    arrays = _compare_arrays(x1, n1, x2, n2, opts, interval_alpha, (parts - {"summary"}) | {"interval"})
+    lists = _lists_from_arrays(arrays)
+    return replace(lists, summary=_summaries_of(lists))
 
 
 def _compare_arrays(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None,
@@ -482,13 +487,16 @@ def _compare_arrays(x1, n1, x2, n2, opts: Options, interval_alpha: float | None 
     )
     if not want_summary:
         return arrays
-    lists = _lists_from_arrays(arrays)
-    summaries = _summaries(
-        opts, confidence, lists.method, lists.treatment_rate, lists.control_rate, lists.difference,
-        lists.relative_lift, lists.odds_ratio, lists.lower, lists.upper, lists.p_value, lists.log10_p_value,
-        lists.reject_null,
+    return replace(arrays, summary=_summaries_of(_lists_from_arrays(arrays)))
+
+
+def _summaries_of(lists: TestColumns) -> list[str]:
+    """The summary sentence of each comparison, written from its values (the interval included)."""
+    return _summaries(
+        lists.options, lists.interval_confidence, lists.method, lists.treatment_rate, lists.control_rate,
+        lists.difference, lists.relative_lift, lists.odds_ratio, lists.lower, lists.upper, lists.p_value,
+        lists.log10_p_value, lists.reject_null,
     )
-    return replace(arrays, summary=summaries)
 
 
 def _lists_from_arrays(a: TestArrays) -> TestColumns:
