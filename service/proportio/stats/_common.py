@@ -52,12 +52,16 @@ def as_counts(successes, trials, name: str = "group") -> tuple[np.ndarray, np.nd
     xs = np.atleast_1d(np.asarray(successes))
     ns = np.atleast_1d(np.asarray(trials))
     for arr, part in ((xs, "successes"), (ns, "trials")):
-        if arr.dtype == bool or not (np.issubdtype(arr.dtype, np.integer) or _integral_floats(arr)):
+        # dtype kinds: i/u integers, f floats; booleans (b) and objects (O) are refused.
+        if arr.dtype.kind not in "iu" and not (arr.dtype.kind == "f" and _integral_floats(arr)):
             raise ValueError(f"{name}.{part} must be whole numbers")
     if xs.shape != ns.shape:
         raise ValueError(f"{name}.successes and {name}.trials must have the same length")
     x = xs.astype(np.float64)
     n = ns.astype(np.float64)
+    # One pass for the usual case (every count valid); the messages below say which rule failed.
+    if ((n >= 1) & (n <= MAX_TRIALS) & (x >= 0) & (x <= n)).all():
+        return x, n
     if np.any(n < 1) or np.any(n > MAX_TRIALS):
         raise ValueError(f"{name}.trials must be between 1 and 10**12")
     if np.any(x < 0):
