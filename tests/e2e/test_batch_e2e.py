@@ -23,6 +23,23 @@ def test_client_batch_equals_single_calls(server_url):
             assert {k: v for k, v in item.items() if not k.startswith("adjusted_")} == single
 
 
+def test_client_batch_columns_equal_the_items_form(server_url):
+    import numpy as np
+
+    x_c, n_c = np.array([412, 1210, 0]), np.array([9630, 9630, 25])
+    x_t, n_t = np.array([471, 1175, 3]), np.array([9598, 9598, 24])
+    pairs = [((a, b), (c, d)) for a, b, c, d in zip(x_c.tolist(), n_c.tolist(), x_t.tolist(), n_t.tolist(),
+                                                   strict=True)]
+    with Client(server_url) as api:
+        items = api.batch(pairs, adjustment="holm")["results"]
+        answer = api.batch_columns(x_c, n_c, x_t, n_t, adjustment="holm",
+                                   fields=["p_value", "adjusted_p_value", "interval_lower"])
+    assert answer["count"] == 3 and answer["options"]["method"] == "auto"
+    assert answer["columns"]["p_value"] == [it["p_value"] for it in items]
+    assert answer["columns"]["adjusted_p_value"] == [it["adjusted_p_value"] for it in items]
+    assert answer["columns"]["interval_lower"] == [it["interval"]["lower"] for it in items]
+
+
 def test_client_batch_error_names_the_item(server_url):
     with Client(server_url) as api, pytest.raises(ProportioError) as exc:
         api.batch([((4, 10), (5, 10)), {"control": {"successes": 11, "trials": 10},
