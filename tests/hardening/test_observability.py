@@ -197,20 +197,6 @@ def test_unknown_paths_and_methods_do_not_create_label_values(client):
 # Logs
 
 
-@pytest.fixture
-def json_log():
-    """Route the proportio loggers through the JSON handler into a buffer, as under gunicorn."""
-    logger = logging.getLogger("proportio")
-    saved = (logger.handlers[:], logger.propagate, logger.level, logging_json._handler)
-    logger.handlers.clear()
-    logging_json.configure("INFO")
-    buffer = io.StringIO()
-    logging_json._handler.setStream(buffer)
-    yield buffer
-    logger.handlers[:], logger.propagate, logger.level, logging_json._handler = saved[0], saved[1], saved[2], \
-        saved[3]
-
-
 def test_one_json_line_per_request(app, json_log):
     c = app.test_client()
     c.post("/v1/tests", json=BODY, headers={"X-Request-ID": "log-1"})

@@ -2,30 +2,14 @@
 
 from __future__ import annotations
 
-import io
 import json
 import logging
 import os
-
-import pytest
 
 from proportio import logging_json
 from proportio.api import observability
 
 BODY = {"control": {"successes": 412, "trials": 9630}, "treatment": {"successes": 471, "trials": 9598}}
-
-
-@pytest.fixture
-def json_log():
-    """The proportio loggers through the JSON handler into a buffer, as under gunicorn."""
-    logger = logging.getLogger("proportio")
-    saved = (logger.handlers[:], logger.propagate, logger.level, logging_json._handler)
-    logger.handlers.clear()
-    logging_json.configure("INFO")
-    buffer = io.StringIO()
-    logging_json._handler.setStream(buffer)
-    yield buffer
-    logger.handlers[:], logger.propagate, logger.level, logging_json._handler = saved
 
 
 def test_direct_log_line_is_the_line_the_formatter_writes(json_log):

@@ -281,6 +281,19 @@ def invalid_positions(items: list, limit: int, rules: _Rules | None = RULES) -> 
     return found
 
 
+def _check_batch_list(value, not_a_list: str, empty: str) -> None:
+    """Raise a ValidationError unless ``value`` is a list of 1 to ``max_batch()`` elements."""
+    if not isinstance(value, list):
+        raise ValidationError(not_a_list)
+    if not value:
+        raise ValidationError(empty)
+    limit = max_batch()
+    if len(value) > limit:
+        raise ValidationError(
+            f"at most {limit:,} comparisons are accepted in one request, got {len(value):,}: split the work "
+            "into several requests")
+
+
 class Comparisons(fields.List):
     """A list of /v1/tests requests, loaded into columns (see the module docstring)."""
 
@@ -288,15 +301,8 @@ class Comparisons(fields.List):
         super().__init__(fields.Nested(TestRequestSchema), **kwargs)
 
     def _deserialize(self, value, attr, data, **kwargs) -> ComparisonColumns:
-        if not isinstance(value, list):
-            raise ValidationError("must be a list of comparisons (each a /v1/tests request)")
-        if not value:
-            raise ValidationError("send at least one comparison")
-        limit = max_batch()
-        if len(value) > limit:
-            raise ValidationError(
-                f"at most {limit:,} comparisons are accepted in one request, got {len(value):,}: split the work "
-                "into several requests")
+        _check_batch_list(value, "must be a list of comparisons (each a /v1/tests request)",
+                          "send at least one comparison")
         columns = load_columns(value)
         if columns is not None:
             return columns
@@ -360,15 +366,7 @@ class CountColumn(fields.List):
         (self._range,) = [v for v in self.inner.validators if isinstance(v, validate.Range)]
 
     def _deserialize(self, value, attr, data, **kwargs) -> np.ndarray:
-        if not isinstance(value, list):
-            raise ValidationError("must be a list of counts, one per comparison")
-        if not value:
-            raise ValidationError("send at least one count")
-        limit = max_batch()
-        if len(value) > limit:
-            raise ValidationError(
-                f"at most {limit:,} comparisons are accepted in one request, got {len(value):,}: split the work "
-                "into several requests")
+        _check_batch_list(value, "must be a list of counts, one per comparison", "send at least one count")
         if _all_of_type(value, int):
             try:
                 column = np.array(value, dtype=np.int64)
