@@ -716,6 +716,28 @@ def _scalar_limit(evaluate, target: float, a: float, b: float, x: float, est: fl
     return 0.5 * (a + b)
 
 
+def _scalar_difference_bounds(a1: float, m1: float, a2: float, m2: float, zl: float, zu: float,
+                              correction: bool) -> tuple[float, float]:
+    """Return (lower, upper) of the difference for one table with floats, clamped to [-1, 1].
+
+    Raises :class:`_Edge` (or an ArithmeticError or ValueError) for a table the scalar path declines; the
+    array code (:func:`_difference_interval`) has the branches for those.
+    """
+    if not (0.0 < a1 < m1 and 0.0 < a2 < m2) or math.isnan(zl) or math.isnan(zu):
+        raise _Edge
+    evaluate, start = _scalar_difference_problem(a1, m1, a2, m2, correction)
+    est = a1 / m1 - a2 / m2
+    # A side left open is -1 or 1 whatever its search would give: no search. A critical value of 0
+    # or below gives the estimate, the end of the search interval (_difference_interval).
+    lower = upper = None
+    if not math.isinf(zl):
+        lower = _scalar_limit(evaluate, zl, -1.0, est, start(zl, 1.0), est) if zl > 0.0 else est
+    if not math.isinf(zu):
+        upper = _scalar_limit(evaluate, -zu, est, 1.0, start(zu, -1.0), est) if zu > 0.0 else est
+    return (-1.0 if lower is None else min(max(lower, -1.0), 1.0),
+            1.0 if upper is None else min(max(upper, -1.0), 1.0))
+
+
 def _scalar_difference_interval(x1, n1, x2, n2, z_lower, z_upper, correction: bool):
     """Return (lower, upper) of the difference for 1-d arrays, one comparison at a time with floats.
 
@@ -728,22 +750,9 @@ def _scalar_difference_interval(x1, n1, x2, n2, z_lower, z_upper, correction: bo
     for i, (a1, m1, a2, m2, zl, zu) in enumerate(zip(x1.tolist(), n1.tolist(), x2.tolist(), n2.tolist(),
                                                       z_lower.tolist(), z_upper.tolist(), strict=True)):
         try:
-            if not (0.0 < a1 < m1 and 0.0 < a2 < m2) or math.isnan(zl) or math.isnan(zu):
-                raise _Edge
-            evaluate, start = _scalar_difference_problem(a1, m1, a2, m2, correction)
-            est = a1 / m1 - a2 / m2
-            # A side left open is -1 or 1 whatever its search would give: no search. A critical value of 0
-            # or below gives the estimate, the end of the search interval (_difference_interval).
-            lo = up = None
-            if not math.isinf(zl):
-                lo = _scalar_limit(evaluate, zl, -1.0, est, start(zl, 1.0), est) if zl > 0.0 else est
-            if not math.isinf(zu):
-                up = _scalar_limit(evaluate, -zu, est, 1.0, start(zu, -1.0), est) if zu > 0.0 else est
+            lower[i], upper[i] = _scalar_difference_bounds(a1, m1, a2, m2, zl, zu, correction)
         except (_Edge, ArithmeticError, ValueError):
             declined.append(i)
-            continue
-        lower[i] = -1.0 if lo is None else min(max(lo, -1.0), 1.0)
-        upper[i] = 1.0 if up is None else min(max(up, -1.0), 1.0)
     if declined:
         idx = np.asarray(declined)
         lower[idx], upper[idx] = _difference_interval(x1[idx], n1[idx], x2[idx], n2[idx], z_lower[idx],

@@ -70,6 +70,18 @@ MIN_DIFFERENCE_NULL = 1e-13
 # for the score intervals), the reason auto gives for its choice, and the summary sentence (which quotes
 # the interval, so it needs it). The tests, estimates, assumptions and warnings are always computed.
 OPTIONAL_PARTS = frozenset({"interval", "reason", "summary"})
+# Texts shared by the array code and the single-comparison path (_compare_one).
+_ADEQUATE_REASON = (
+    f"every expected count under the null is at least {EXPECTED_COUNT_THRESHOLD:g} (the smallest is {{}}), so "
+    "the normal approximation is adequate: pooled z-test"
+)
+_SMALL_COUNT_NOTE = (
+    f"the smallest expected count under the null is {{}}, below {EXPECTED_COUNT_THRESHOLD:g}: the normal "
+    "approximation may be poor; an exact test is safer"
+)
+_UNCORRECTED_NOTE = "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
+_UNDERFLOW_NOTE = ("the p-value is below the smallest positive double (about 1e-308); log10_p_value gives its size "
+                   "where the method can compute it")
 METHOD_NAMES = {
     "z-pooled": "pooled z-test",
     "z-unpooled": "unpooled z-test",
@@ -432,6 +444,10 @@ def _is_one_of(groups: dict[str, np.ndarray], names: tuple[str, ...], size: int)
 
 def _compare_columns(x1, n1, x2, n2, opts: Options, interval_alpha: float | None = None,
                      parts: frozenset[str] = OPTIONAL_PARTS) -> TestColumns:
+    if x1.shape == (1,):
+        one = _compare_one(float(x1[0]), float(n1[0]), float(x2[0]), float(n2[0]), opts, interval_alpha, parts)
+        if one is not None:
+            return one
     if "summary" not in parts:
         return _lists_from_arrays(_compare_arrays(x1, n1, x2, n2, opts, interval_alpha, parts))
     # The summaries are written from the lists: build them once.
@@ -497,6 +513,146 @@ def _summaries_of(lists: TestColumns) -> list[str]:
         lists.difference, lists.relative_lift, lists.odds_ratio, lists.lower, lists.upper, lists.p_value,
         lists.log10_p_value, lists.reject_null,
     )
+
+
+# --------------------------------------------------------------------------------------------------
+# One comparison with floats
+#
+# A single /v1/tests call is a batch of one, and numpy's fixed cost per operation (about a microsecond on
+# arrays of one element) makes the array code above cost ~250 us for it, ten times its arithmetic. The
+# commonest single comparison (a difference tested by a z-test or chi-square, every count strictly between
+# 0 and its trials, auto resolving to the pooled z-test) is computed here with Python floats instead. It
+# must give exactly the values of the array code, bit for bit, so that a single call and the same
+# comparison inside a batch never disagree (tests/unit/test_single_comparison_path.py checks this over
+# random tables and every option it handles): the same operations in the same order (IEEE arithmetic and
+# square roots round the same in Python and numpy), and the very same numpy/scipy functions, called on
+# floats, for everything else (exp, log_ndtr, the score interval's scalar solver). Anything else (another
+# effect, the score or an exact test, a count of 0 or all) returns None and goes to the array code.
+
+_ONE_METHODS = ("auto", "z-pooled", "z-unpooled", "chi-square")
+
+
+def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, interval_alpha: float | None,
+                 parts: frozenset[str]) -> TestColumns | None:
+    """The columns of one comparison computed with floats, or None where the array code must do it."""
+    method = opts.method
+    if opts.effect != "difference" or method not in _ONE_METHODS or not (0.0 < x1 < n1 and 0.0 < x2 < n2):
+        return None
+    pooled = (x1 + x2) / (n1 + n2)
+    if opts.null_value == 0.0:
+        # _min_expected_counts at no effect.
+        min_expected = min(n1 * pooled, n1 * (1.0 - pooled), n2 * pooled, n2 * (1.0 - pooled))
+    elif method == "z-unpooled":
+        q1, q2 = score.restricted_rates_difference(np.array([x1]), np.array([n1]), np.array([x2]), np.array([n2]),
+                                                   opts.null_value)
+        min_expected = float(np.minimum.reduce([n1 * q1, n1 * (1.0 - q1), n2 * q2, n2 * (1.0 - q2)])[0])
+    else:
+        return None  # auto with a non-zero null: the score test
+    reason = None
+    if method == "auto":
+        if not min_expected >= EXPECTED_COUNT_THRESHOLD:
+            return None  # an exact test
+        method = "z-pooled"
+        if "reason" in parts:
+            reason = _ADEQUATE_REASON.format(significant_digits(min_expected))
+
+    # _run_method
+    cc_applied = opts.continuity_correction
+    half_width = 0.5 * (1.0 / n1 + 1.0 / n2)
+    if (x1 + x2) > 0.5 * (n1 + n2):  # rate_difference
+        diff = (n2 - x2) / n2 - (n1 - x1) / n1
+    else:
+        diff = x1 / n1 - x2 / n2
+    if method == "z-unpooled":
+        p1 = x1 / n1
+        p2 = x2 / n2
+        se = math.sqrt(p1 * ((n1 - x1) / n1) / n1 + p2 * ((n2 - x2) / n2) / n2)
+        d = diff - opts.null_value
+    else:
+        se = math.sqrt(pooled * ((n1 - x1 + n2 - x2) / (n1 + n2)) * (1.0 / n1 + 1.0 / n2))
+        d = diff
+    if cc_applied:
+        # np.sign(d) * np.maximum(np.abs(d) - half_width, 0.0)
+        d = (1.0 if d > 0.0 else -1.0 if d < 0.0 else 0.0) * max(abs(d) - half_width, 0.0)
+    if not se > 0.0:
+        return None
+    z = d / se
+    if method == "chi-square":
+        stat = z * z
+        p_arr, log10p_arr = chi2_1df_p_value(stat)
+    else:
+        stat = z
+        p_arr, log10p_arr = normal_p_value(z, opts.alternative)
+    p = float(p_arr)
+    log10p = float(log10p_arr)
+
+    # _test_intervals / difference_bounds
+    want_summary = "summary" in parts
+    want_interval = want_summary or "interval" in parts
+    level_alpha = opts.alpha if interval_alpha is None else interval_alpha
+    confidence = 1.0 - level_alpha
+    lower = upper = math.nan
+    interval_method = None
+    if want_interval:
+        zc = z_one_sided(confidence) if opts.alternative != "two-sided" else z_one_sided(1.0 - level_alpha / 2.0)
+        z_lower = math.inf if opts.alternative == "less" else zc
+        z_upper = math.inf if opts.alternative == "greater" else zc
+        if method == "z-unpooled":
+            interval_method = "wald-cc" if cc_applied else "wald"
+            p1 = x1 / n1
+            p2 = x2 / n2
+            wald_se = math.sqrt(p1 * (1.0 - p1) / n1 + p2 * (1.0 - p2) / n2)
+            shift = half_width if cc_applied else 0.0
+            lower = -1.0 if math.isinf(z_lower) else (p1 - p2) - (z_lower * wald_se + shift)
+            upper = 1.0 if math.isinf(z_upper) else (p1 - p2) + (z_upper * wald_se + shift)
+        else:
+            interval_method = "farrington-manning"
+            try:
+                lower, upper = score._scalar_difference_bounds(x1, n1, x2, n2, z_lower, z_upper, False)
+            except (score._Edge, ArithmeticError, ValueError):
+                return None
+        lower = min(max(lower, -1.0), 1.0)
+        upper = min(max(upper, -1.0), 1.0)
+
+    # _warnings (the other cautions need a count of 0 or all, or another method or effect)
+    notes = []
+    if min_expected < EXPECTED_COUNT_THRESHOLD:
+        notes.append(_SMALL_COUNT_NOTE.format(significant_digits(min_expected)))
+    if cc_applied and method != "z-unpooled":
+        notes.append(_UNCORRECTED_NOTE)
+    if p == 0.0:
+        notes.append(_UNDERFLOW_NOTE)
+
+    # rate_estimates
+    p1 = x1 / n1
+    p2 = x2 / n2
+    odds = (x1 * (n2 - x2)) / ((n1 - x1) * x2)
+    finite_p = not math.isnan(p)
+    cols = TestColumns(
+        options=opts,
+        statistic=[stat if math.isfinite(stat) else None],
+        p_value=[p if finite_p else None],
+        log10_p_value=[log10p if math.isfinite(log10p) else None],
+        reject_null=[p <= opts.alpha if finite_p else None],
+        method=[method],
+        method_reason=[reason] if "reason" in parts else None,
+        continuity_correction=[cc_applied],
+        control_rate=[p2],
+        treatment_rate=[p1],
+        difference=[diff],
+        relative_lift=[p1 / p2 - 1.0],
+        odds_ratio=[odds if math.isfinite(odds) else None],
+        interval_method=[interval_method] if want_interval else None,
+        interval_confidence=confidence,
+        lower=[lower if math.isfinite(lower) else None] if want_interval else None,
+        upper=[upper if math.isfinite(upper) else None] if want_interval else None,
+        min_expected_count=[min_expected],
+        normal_approximation_ok=[min_expected >= EXPECTED_COUNT_THRESHOLD],
+        warnings=[tuple(notes)],
+        summary=None,
+        p_values=np.array([p]),
+    )
+    return replace(cols, summary=_summaries_of(cols)) if want_summary else cols
 
 
 def _lists_from_arrays(a: TestArrays) -> TestColumns:
@@ -570,10 +726,7 @@ def _auto_choices(opts: Options, min_expected: np.ndarray, n1: np.ndarray, n2: n
         return _labels(size, "score"), reasons
     methods = _auto_methods(opts, min_expected, n1, n2)
     below = ~(min_expected >= EXPECTED_COUNT_THRESHOLD)
-    adequate = (
-        f"every expected count under the null is at least {threshold} (the smallest is {{}}), so the normal "
-        "approximation is adequate: pooled z-test"
-    )
+    adequate = _ADEQUATE_REASON
     not_trusted = (
         f"the smallest expected count under the null is {{}}, below {threshold}, so the normal approximation "
         "is not trusted"
@@ -778,10 +931,7 @@ def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray],
     for i in np.flatnonzero(flagged).tolist():
         notes = []
         if small[i]:
-            notes.append(
-                f"the smallest expected count under the null is {significant_digits(float(min_expected[i]))}, "
-                f"below {EXPECTED_COUNT_THRESHOLD:g}: the normal approximation may be poor; an exact test is safer"
-            )
+            notes.append(_SMALL_COUNT_NOTE.format(significant_digits(float(min_expected[i]))))
         if same_outcome[i]:
             notes.append(
                 "every trial in both groups had the same outcome: the data carry no evidence of a difference"
@@ -794,12 +944,9 @@ def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray],
         if no_lift[i]:
             notes.append("the relative lift is undefined: the control group has no successes")
         if uncorrected[i]:
-            notes.append(
-                "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
-            )
+            notes.append(_UNCORRECTED_NOTE)
         if underflow[i]:
-            notes.append("the p-value is below the smallest positive double (about 1e-308); log10_p_value gives "
-                         "its size where the method can compute it")
+            notes.append(_UNDERFLOW_NOTE)
         out[i] = tuple(notes)
     return out
 
