@@ -117,3 +117,34 @@ def test_effects_and_methods_the_float_path_does_not_handle_are_declined():
                     dict(method="fisher-exact")):
         opts = twogroup.check_options(**options)
         assert twogroup._compare_one(471.0, 9598.0, 412.0, 9630.0, opts, None, twogroup.OPTIONAL_PARTS) is None
+
+
+@pytest.mark.parametrize("options", [
+    dict(method="auto"), dict(method="z-unpooled", null_value=0.01, alternative="less"),
+    dict(method="chi-square", continuity_correction=True), dict(method="score"),
+    dict(method="auto", effect="odds-ratio"),
+])
+def test_compare_one_is_compare_of_a_batch_of_one(options):
+    # compare_one is what /v1/tests runs; /v1/batch runs compare_columns. Every table, including the ones
+    # compare_one hands to compare (edges, small tables, other methods), must give the same result.
+    for table in interior_tables(11, 25) + [(0, 10, 3, 10), (10, 10, 3, 10), (0, 5, 0, 5), (2, 30, 1, 25)]:
+        one = twogroup.compare_one(*table, **options)
+        [expected] = twogroup.compare(*([c] for c in table), **options)
+        assert repr(one) == repr(expected), table
+
+
+@pytest.mark.parametrize("counts, message", [
+    ((True, 10, 3, 10), "treatment.successes must be whole numbers"),
+    ((3, 0, 3, 10), "treatment.trials must be between 1 and 10**12"),
+    ((3, 10, 3, 10**12 + 1), "control.trials must be between 1 and 10**12"),
+    ((3, 10, 11, 10), "control.successes must not exceed control.trials"),
+    ((-1, 10, 3, 10), "treatment.successes must not be negative"),
+])
+def test_compare_one_refuses_what_compare_refuses(counts, message):
+    with pytest.raises(ValueError, match=message.replace("*", r"\*")):
+        twogroup.compare_one(*counts)
+
+
+def test_compare_one_takes_numpy_and_integral_float_counts_as_compare_does():
+    assert repr(twogroup.compare_one(np.int64(471), 9598.0, 412, np.uint32(9630))) == repr(
+        twogroup.compare([471], [9598], [412], [9630])[0])

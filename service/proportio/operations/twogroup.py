@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from ..errors import field_error
 from ..stats import intervals, twogroup
-from .batch import columns_from_items, run_columns
+from .batch import OPTION_NAMES, columns_from_items, run_columns
 
 
 def run_tests(items: list[dict]) -> list[twogroup.TestResult]:
@@ -20,8 +20,10 @@ def run_tests(items: list[dict]) -> list[twogroup.TestResult]:
 
 
 def run_test(data: dict) -> twogroup.TestResult:
-    """Run one validated /v1/tests request (a batch of one)."""
-    return run_tests([data])[0]
+    """Run one validated /v1/tests request: the numbers of a batch of one, without the batch's bookkeeping."""
+    t, c = data["treatment"], data["control"]
+    return twogroup.compare_one(t["successes"], t["trials"], c["successes"], c["trials"],
+                                **{name: data[name] for name in OPTION_NAMES})
 
 
 def run_interval(data: dict) -> intervals.Interval:

@@ -33,6 +33,7 @@ import numpy as np
 
 from . import exact, score
 from ._common import (
+    MAX_TRIALS,
     as_counts,
     check_alpha,
     check_alternative,
@@ -247,6 +248,39 @@ def compare(
         alternative=alternative, null_value=null_value, effect=effect, alpha=alpha,
         continuity_correction=continuity_correction, interval_alpha=interval_alpha,
     ))
+
+
+def compare_one(
+    treatment_successes: int,
+    treatment_trials: int,
+    control_successes: int,
+    control_trials: int,
+    *,
+    method: str = "auto",
+    alternative: str = "two-sided",
+    null_value: float | None = None,
+    effect: str = "difference",
+    alpha: float = 0.05,
+    continuity_correction: bool = False,
+) -> TestResult:
+    """Test one comparison: ``compare([x_t], [n_t], [x_c], [n_c], ...)[0]``, without the cost of arrays.
+
+    The same numbers as :func:`compare` to the last bit (the same float path a batch of one takes); counts
+    that are not plain integers in range, and cases the float path does not handle, go through
+    :func:`compare` itself, which also raises its errors.
+    """
+    counts = (treatment_successes, treatment_trials, control_successes, control_trials)
+    if all(type(c) is int for c in counts) and (
+            0 < treatment_successes < treatment_trials <= MAX_TRIALS and 0 < control_successes < control_trials
+            <= MAX_TRIALS):
+        opts = check_options(method, alternative, null_value, effect, alpha, continuity_correction)
+        one = _compare_one(float(treatment_successes), float(treatment_trials), float(control_successes),
+                           float(control_trials), opts, None, OPTIONAL_PARTS)
+        if one is not None:
+            return results_from_columns(one)[0]
+    return compare([treatment_successes], [treatment_trials], [control_successes], [control_trials], method=method,
+                   alternative=alternative, null_value=null_value, effect=effect, alpha=alpha,
+                   continuity_correction=continuity_correction)[0]
 
 
 @dataclass(frozen=True, slots=True)
@@ -623,36 +657,46 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
     if p == 0.0:
         notes.append(_UNDERFLOW_NOTE)
 
-    # rate_estimates
+    # rate_estimates and _lists_from_arrays
     p1 = x1 / n1
     p2 = x2 / n2
+    lift = p1 / p2 - 1.0
     odds = (x1 * (n2 - x2)) / ((n1 - x1) * x2)
-    finite_p = not math.isnan(p)
-    cols = TestColumns(
+    odds_out = odds if math.isfinite(odds) else None
+    defined = not math.isnan(p)
+    p_out = p if defined else None
+    log10p_out = log10p if math.isfinite(log10p) else None
+    reject = p <= opts.alpha if defined else None
+    lower_out = lower if math.isfinite(lower) else None
+    upper_out = upper if math.isfinite(upper) else None
+    summary = None
+    if want_summary:
+        summary = _summaries(opts, confidence, (method,), (p1,), (p2,), (diff,), (lift,), (odds_out,), (lower_out,),
+                             (upper_out,), (p_out,), (log10p_out,), (reject,))
+    return TestColumns(
         options=opts,
         statistic=[stat if math.isfinite(stat) else None],
-        p_value=[p if finite_p else None],
-        log10_p_value=[log10p if math.isfinite(log10p) else None],
-        reject_null=[p <= opts.alpha if finite_p else None],
+        p_value=[p_out],
+        log10_p_value=[log10p_out],
+        reject_null=[reject],
         method=[method],
         method_reason=[reason] if "reason" in parts else None,
         continuity_correction=[cc_applied],
         control_rate=[p2],
         treatment_rate=[p1],
         difference=[diff],
-        relative_lift=[p1 / p2 - 1.0],
-        odds_ratio=[odds if math.isfinite(odds) else None],
+        relative_lift=[lift],
+        odds_ratio=[odds_out],
         interval_method=[interval_method] if want_interval else None,
         interval_confidence=confidence,
-        lower=[lower if math.isfinite(lower) else None] if want_interval else None,
-        upper=[upper if math.isfinite(upper) else None] if want_interval else None,
+        lower=[lower_out] if want_interval else None,
+        upper=[upper_out] if want_interval else None,
         min_expected_count=[min_expected],
         normal_approximation_ok=[min_expected >= EXPECTED_COUNT_THRESHOLD],
         warnings=[tuple(notes)],
-        summary=None,
+        summary=summary,
         p_values=np.array([p]),
     )
-    return replace(cols, summary=_summaries_of(cols)) if want_summary else cols
 
 
 def _lists_from_arrays(a: TestArrays) -> TestColumns:
