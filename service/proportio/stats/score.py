@@ -575,9 +575,12 @@ def _scalar_difference_problem(x1: float, n1: float, x2: float, n2: float, corre
             raise _Edge
         u = (1.0 if v >= 0 else -1.0) * math.sqrt(radicand)
         cos_arg = v / (u * u * u)
-        w = (pi + float(arccos(min(max(cos_arg, -1.0), 1.0)))) / 3.0
-        lo = max(0.0, delta)
-        hi = min(1.0, 1.0 + delta)
+        # min(max(cos_arg, -1.0), 1.0), max(0.0, delta), min(1.0, 1.0 + delta), without the builtin calls.
+        clipped = -1.0 if -1.0 > cos_arg else cos_arg
+        clipped = 1.0 if 1.0 < clipped else clipped
+        w = (pi + float(arccos(clipped))) / 3.0
+        lo = delta if delta > 0.0 else 0.0
+        hi = 1.0 + delta if 1.0 + delta < 1.0 else 1.0
         p = 2.0 * u * float(cos(w)) - b3a
         if not lo < p < hi:  # clipped onto an edge, or NaN
             raise _Edge
@@ -596,6 +599,11 @@ def _scalar_difference_problem(x1: float, n1: float, x2: float, n2: float, corre
             p = step
             q = p - delta
             g = s1 / p - t1 / (1.0 - p) + s2 / q - t2 / (1.0 - q)
+            if change == 0.0:
+                # A fixed point: the remaining steps would repeat this one exactly (same p, g and step), so
+                # stopping gives the array code's value to the last bit. Happens at the second step in
+                # about half the calls.
+                break
         if change > 1e-12 * max(min(p, 1.0 - p), 1e-300):
             raise _Edge
         e1 = 1.0 - p
@@ -607,11 +615,13 @@ def _scalar_difference_problem(x1: float, n1: float, x2: float, n2: float, corre
     def evaluate(value: float) -> tuple[float, float]:
         if mirror:
             m1, w = root(-value)
-            m2 = min(max(m1 - -value, 0.0), 1.0)
+            m2 = m1 - -value  # then clipped to [0, 1], as min(max(m2, 0.0), 1.0) would
+            m2 = 1.0 if 1.0 < m2 else 0.0 if 0.0 > m2 else m2
             q1, q2, c1_, c2_ = 1.0 - m1, 1.0 - m2, m1, m2
         else:
             m1, w = root(value)
-            m2 = min(max(m1 - value, 0.0), 1.0)
+            m2 = m1 - value
+            m2 = 1.0 if 1.0 < m2 else 0.0 if 0.0 > m2 else m2
             q1, q2, c1_, c2_ = m1, m2, 1.0 - m1, 1.0 - m2
         var = (q1 * c1_ / n1 + q2 * c2_ / n2) * factor
         if not var > 0.0:
