@@ -1,7 +1,8 @@
 """Operations of /v1/batch: many two-group tests, one vectorised pass through the core per set of options.
 
-The single /v1/tests call runs through the same code as a batch of one (``run_columns``), so an item of a
-batch and the single call can never disagree.
+The single /v1/tests call (``operations.twogroup.run_test``) takes ``stats.twogroup.compare_one``, which gives
+the numbers of a batch of one without the batch's bookkeeping; an item of a batch and the single call agree
+to the last bit (tests/unit/test_single_comparison_path.py).
 """
 
 from __future__ import annotations

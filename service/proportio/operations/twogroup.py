@@ -10,7 +10,7 @@ from .batch import OPTION_NAMES, columns_from_items, run_columns
 def run_tests(items: list[dict]) -> list[twogroup.TestResult]:
     """Run validated test requests, one vectorised core call per distinct set of options.
 
-    This is the /v1/batch code path (operations.batch.run_columns), so a single test is a batch of one.
+    This is the /v1/batch code path (operations.batch.run_columns).
     """
     results: list[twogroup.TestResult | None] = [None] * len(items)
     for idx, columns in run_columns(columns_from_items(items)):

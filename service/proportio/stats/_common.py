@@ -78,6 +78,8 @@ def _integral_floats(arr: np.ndarray) -> bool:
 def rate_difference(x1, n1, x2, n2):
     """Return ``x1/n1 - x2/n2`` computed from whichever of successes or failures are fewer.
 
+    ``twogroup._compare_one`` repeats this with floats: change both.
+
     Two rates near 1 differ by less than their rounding error allows (1 - 1e-11 is stored to about
     1e-16 absolute, which is 1e-5 of a difference of 1e-11); the failure rates carry the same difference
     with full relative precision.

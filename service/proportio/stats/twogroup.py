@@ -1,8 +1,10 @@
 """Hypothesis tests comparing the success rates of a treatment and a control group.
 
 :func:`compare` is vectorised: it takes arrays of counts and one set of options and returns one
-:class:`TestResult` per comparison. A single comparison is a batch of one, so a batch and a single
-call can never disagree.
+:class:`TestResult` per comparison. A single comparison is a batch of one: :func:`compare_one` and a
+batch of one compute the commonest cases with Python floats (``_compare_one``) and everything else with the
+array code, and the float path gives the array code's values to the last bit, so a batch and a single call
+never disagree.
 
 Methods
 -------
@@ -848,7 +850,10 @@ def planned_methods(treatment_successes, treatment_trials, control_successes, co
 
 
 def _run_method(name: str, x1, n1, x2, n2, opts: Options):
-    """Return (statistic, p, log10 p) arrays for the comparisons handled by one method."""
+    """Return (statistic, p, log10 p) arrays for the comparisons handled by one method.
+
+    ``_compare_one`` repeats the z-tests and chi-square with floats, operation for operation: change both.
+    """
     alt = opts.alternative
     if name in ("z-pooled", "chi-square"):
         pooled = (x1 + x2) / (n1 + n2)
@@ -979,7 +984,11 @@ def _interval_methods(method: str, opts: Options, n1, n2, successes):
 
 def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray], x1, x2, min_expected, stat,
               p) -> list[tuple[str, ...]]:
-    """Return the cautions of each comparison (a shared empty tuple where there are none)."""
+    """Return the cautions of each comparison (a shared empty tuple where there are none).
+
+    A caution that can apply to a table with every count strictly inside must be added to ``_compare_one``
+    too (tests/unit/test_single_comparison_path.py fails until it is).
+    """
     size = methods.shape[0]
     normal = _is_one_of(groups, ("z-pooled", "z-unpooled", "chi-square", "score"), size)
     pooled = _is_one_of(groups, ("z-pooled", "chi-square"), size)
@@ -1020,6 +1029,8 @@ def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray],
 
 def _add_interval_warnings(warnings, opts: Options, methods, groups, x1, n1, x2, n2, lower, upper, p):
     """Add the cautions about the reported interval and undefined estimates to each comparison's warnings.
+
+    Like :func:`_warnings`: one that can apply with every count strictly inside belongs in ``_compare_one`` too.
 
     An exact test is reported with a score (or conditional) interval that does not invert it, so near the
     significance boundary the two can disagree; where they do, the warning says that the test decides.
