@@ -325,3 +325,16 @@ def test_planning_alpha_of_benjamini_yekutieli_is_the_strictest_step():
 
 def test_both_tails_rejecting_at_alpha_one_half_is_inconclusive():
     assert guardrail.verdict_from_p_values(0.5, 0.5, 0.5) == "inconclusive"
+
+
+def test_small_expected_counts_do_not_recommend_an_exact_test_the_guardrail_cannot_run():
+    # 3/40 vs 2/38 at a margin of 0.05: expected counts under the margin null are below 5. The two-group
+    # test's caution says "an exact test is safer", but the exact tests here test no effect only.
+    result = guardrail.guardrail(3, 40, 2, 38, margin=0.05, margin_type="absolute", direction="lower-is-better")
+    small = [w for w in result.warnings if w.startswith("the smallest expected count under the null")]
+    assert len(small) == 1
+    assert "exact test is safer" not in small[0]
+    assert small[0].endswith(guardrail.SMALL_COUNT_ADVICE)
+    # A large table carries no such caution.
+    assert not any("smallest expected count" in w for w in guardrail.guardrail(
+        300, 4000, 280, 3800, margin=0.01, margin_type="absolute", direction="lower-is-better").warnings)

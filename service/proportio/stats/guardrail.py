@@ -77,6 +77,10 @@ MARGIN_TYPES = ("absolute", "relative")
 DIRECTIONS = ("higher-is-better", "lower-is-better")
 VERDICTS = ("pass", "fail", "inconclusive")
 PLANNING_POWER = 0.8
+# What the small-expected-count caution advises here: the exact tests of this service test no effect only,
+# so none can test a margin.
+SMALL_COUNT_ADVICE = ("no exact test of a margin is available, so treat the verdict with caution and gather more "
+                      "trials")
 
 
 @dataclass(frozen=True, slots=True)
@@ -264,7 +268,11 @@ def guardrail(
     interval = GuardrailInterval("miettinen-nurminen", effect, 1.0 - 2.0 * alpha, lower, upper)
     test = GuardrailTest(ni.statistic, ni.p_value, worse.p_value, null, alt_ni, effect, "score")
 
-    warnings = list(dict.fromkeys(ni.warnings + worse.warnings))
+    # The test's caution about small expected counts recommends an exact test, which a margin other than no
+    # effect does not have here: say what to do instead.
+    small = twogroup.small_count_note(ni.assumptions.min_expected_count)
+    warnings = [twogroup.small_count_note(ni.assumptions.min_expected_count, SMALL_COUNT_ADVICE) if w == small else w
+                for w in dict.fromkeys(ni.warnings + worse.warnings)]
     extra = None
     if verdict == "inconclusive":
         extra, notes = additional_trials(treatment_successes, treatment_trials, control_successes, control_trials,

@@ -80,8 +80,14 @@ _ADEQUATE_REASON = (
 )
 _SMALL_COUNT_NOTE = (
     f"the smallest expected count under the null is {{}}, below {EXPECTED_COUNT_THRESHOLD:g}: the normal "
-    "approximation may be poor; an exact test is safer"
+    "approximation may be poor; {}"
 )
+EXACT_ADVICE = "an exact test is safer"
+
+
+def small_count_note(min_expected: float, advice: str = EXACT_ADVICE) -> str:
+    """The caution given when the smallest expected count under the null is below the threshold."""
+    return _SMALL_COUNT_NOTE.format(significant_digits(min_expected), advice)
 _UNCORRECTED_NOTE = "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
 _UNDERFLOW_NOTE = ("the p-value is below the smallest positive double (about 1e-308); log10_p_value gives its size "
                    "where the method can compute it")
@@ -653,7 +659,7 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
     # _warnings (the other cautions need a count of 0 or all, or another method or effect)
     notes = []
     if min_expected < EXPECTED_COUNT_THRESHOLD:
-        notes.append(_SMALL_COUNT_NOTE.format(significant_digits(min_expected)))
+        notes.append(small_count_note(min_expected))
     if cc_applied and method != "z-unpooled":
         notes.append(_UNCORRECTED_NOTE)
     if p == 0.0:
@@ -1007,7 +1013,7 @@ def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray],
     for i in np.flatnonzero(flagged).tolist():
         notes = []
         if small[i]:
-            notes.append(_SMALL_COUNT_NOTE.format(significant_digits(float(min_expected[i]))))
+            notes.append(small_count_note(float(min_expected[i])))
         if same_outcome[i]:
             notes.append(
                 "every trial in both groups had the same outcome: the data carry no evidence of a difference"
