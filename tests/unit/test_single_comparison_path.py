@@ -148,3 +148,15 @@ def test_compare_one_refuses_what_compare_refuses(counts, message):
 def test_compare_one_takes_numpy_and_integral_float_counts_as_compare_does():
     assert repr(twogroup.compare_one(np.int64(471), 9598.0, 412, np.uint32(9630))) == repr(
         twogroup.compare([471], [9598], [412], [9630])[0])
+
+
+@pytest.mark.parametrize("alternative", ["two-sided", "greater", "less"])
+def test_the_float_normal_tail_equals_the_array_one_bit_for_bit(alternative):
+    from proportio.stats._common import normal_p_value, normal_p_value_float
+
+    rng = np.random.default_rng(3)
+    zs = np.concatenate([rng.normal(0, 3, 2_000), rng.uniform(-45, 45, 2_000), 10.0 ** rng.uniform(-320, 2, 500),
+                         [0.0, -0.0, 1e-300, -5e-324, 37.5, -37.5, 38.5, 40.0, -40.0, 1e4, np.inf, -np.inf, np.nan]])
+    p, log10p = normal_p_value(zs, alternative)
+    for z, expected_p, expected_log in zip(zs.tolist(), p.tolist(), log10p.tolist(), strict=True):
+        assert repr(normal_p_value_float(z, alternative)) == repr((expected_p, expected_log)), z

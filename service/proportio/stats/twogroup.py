@@ -42,6 +42,7 @@ from ._common import (
     check_method,
     chi2_1df_p_value,
     normal_p_value,
+    normal_p_value_float,
     percent,
     rate_difference,
     significant_digits,
@@ -621,12 +622,11 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
     z = d / se
     if method == "chi-square":
         stat = z * z
-        p_arr, log10p_arr = chi2_1df_p_value(stat)
+        # chi2_1df_p_value: the two-sided normal tail at sqrt(max(stat, 0)); stat = z * z is never negative.
+        p, log10p = normal_p_value_float(math.sqrt(stat), "two-sided")
     else:
         stat = z
-        p_arr, log10p_arr = normal_p_value(z, opts.alternative)
-    p = float(p_arr)
-    log10p = float(log10p_arr)
+        p, log10p = normal_p_value_float(z, opts.alternative)
 
     # _test_intervals / difference_bounds
     want_summary = "summary" in parts
