@@ -180,7 +180,7 @@ def python_round(url: str, body: bytes, seconds: float, connections: int) -> dic
 
 def run_http(args) -> None:
     workers = args.workers
-    rounds, seconds = (1, 1.0) if args.quick else (3, 4.0)
+    rounds, seconds = (1, 1.0) if args.quick else (5, 4.0)
     connections = 2 * workers
     tool = "wrk" if shutil.which("wrk") else "python"
     section(f"One request: POST /v1/tests against a bare Flask JSON endpoint, gunicorn with {workers} workers each "
