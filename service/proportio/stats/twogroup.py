@@ -84,14 +84,16 @@ _SMALL_COUNT_NOTE = (
     "approximation may be poor; {}"
 )
 EXACT_ADVICE = "an exact test is safer"
+_UNCORRECTED_NOTE = "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
+_UNDERFLOW_NOTE = ("the p-value is below the smallest positive double (about 1e-308); log10_p_value gives its size "
+                   "where the method can compute it")
 
 
 def small_count_note(min_expected: float, advice: str = EXACT_ADVICE) -> str:
     """The caution given when the smallest expected count under the null is below the threshold."""
     return _SMALL_COUNT_NOTE.format(significant_digits(min_expected), advice)
-_UNCORRECTED_NOTE = "the reported interval is not continuity-corrected, so it may disagree with the test near the edge"
-_UNDERFLOW_NOTE = ("the p-value is below the smallest positive double (about 1e-308); log10_p_value gives its size "
-                   "where the method can compute it")
+
+
 METHOD_NAMES = {
     "z-pooled": "pooled z-test",
     "z-unpooled": "unpooled z-test",
