@@ -601,6 +601,10 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
         if "reason" in parts:
             reason = _ADEQUATE_REASON.format(significant_digits(min_expected))
 
+    # The rates, as rate_estimates, _run_method and difference_bounds each compute them.
+    p1 = x1 / n1
+    p2 = x2 / n2
+
     # _run_method
     cc_applied = opts.continuity_correction
     half_width = 0.5 * (1.0 / n1 + 1.0 / n2)
@@ -609,8 +613,6 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
     else:
         diff = x1 / n1 - x2 / n2
     if method == "z-unpooled":
-        p1 = x1 / n1
-        p2 = x2 / n2
         se = math.sqrt(p1 * ((n1 - x1) / n1) / n1 + p2 * ((n2 - x2) / n2) / n2)
         d = diff - opts.null_value
     else:
@@ -643,8 +645,6 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
         z_upper = math.inf if opts.alternative == "greater" else zc
         if method == "z-unpooled":
             interval_method = "wald-cc" if cc_applied else "wald"
-            p1 = x1 / n1
-            p2 = x2 / n2
             wald_se = math.sqrt(p1 * (1.0 - p1) / n1 + p2 * (1.0 - p2) / n2)
             shift = half_width if cc_applied else 0.0
             lower = -1.0 if math.isinf(z_lower) else (p1 - p2) - (z_lower * wald_se + shift)
@@ -668,8 +668,6 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
         notes.append(_UNDERFLOW_NOTE)
 
     # rate_estimates and _lists_from_arrays
-    p1 = x1 / n1
-    p2 = x2 / n2
     lift = p1 / p2 - 1.0
     odds = (x1 * (n2 - x2)) / ((n1 - x1) * x2)
     odds_out = odds if math.isfinite(odds) else None
