@@ -30,6 +30,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from functools import lru_cache
 
 import numpy as np
 
@@ -285,10 +286,22 @@ def compare_one(
             0 < treatment_successes < treatment_trials <= MAX_TRIALS and 0 < control_successes < control_trials
             <= MAX_TRIALS):
         opts = check_options(method, alternative, null_value, effect, alpha, continuity_correction)
-        one = _compare_one(float(treatment_successes), float(treatment_trials), float(control_successes),
-                           float(control_trials), opts, None, OPTIONAL_PARTS)
+        one = _one_values(float(treatment_successes), float(treatment_trials), float(control_successes),
+                          float(control_trials), opts, None, OPTIONAL_PARTS)
         if one is not None:
-            return results_from_columns(one)[0]
+            # results_from_columns of the one comparison, without the columns.
+            (stat, p, log10p, reject, method, reason, cc, control_rate, treatment_rate, diff, lift, odds,
+             interval_method, confidence, lower, upper, min_expected, normal_ok, notes, summary, _) = one
+            return TestResult(
+                statistic=stat, p_value=p, log10_p_value=log10p, alpha=opts.alpha, reject_null=reject,
+                alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=method,
+                method_reason=reason, continuity_correction=cc,
+                estimate=Estimate(control_rate=control_rate, treatment_rate=treatment_rate, difference=diff,
+                                  relative_lift=lift, odds_ratio=odds),
+                interval=TestInterval(interval_method, confidence, lower, upper),
+                assumptions=Assumptions(min_expected, EXPECTED_COUNT_THRESHOLD, normal_ok),
+                warnings=notes, summary=summary,
+            )
     return compare([treatment_successes], [treatment_trials], [control_successes], [control_trials], method=method,
                    alternative=alternative, null_value=null_value, effect=effect, alpha=alpha,
                    continuity_correction=continuity_correction)[0]
@@ -580,6 +593,48 @@ _ONE_METHODS = ("auto", "z-pooled", "z-unpooled", "chi-square")
 def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, interval_alpha: float | None,
                  parts: frozenset[str]) -> TestColumns | None:
     """The columns of one comparison computed with floats, or None where the array code must do it."""
+    one = _one_values(x1, n1, x2, n2, opts, interval_alpha, parts)
+    if one is None:
+        return None
+    (stat, p, log10p, reject, method, reason, cc, control_rate, treatment_rate, diff, lift, odds, interval_method,
+     confidence, lower, upper, min_expected, normal_ok, notes, summary, p_raw) = one
+    want_interval = interval_method is not None
+    return TestColumns(
+        options=opts,
+        statistic=[stat],
+        p_value=[p],
+        log10_p_value=[log10p],
+        reject_null=[reject],
+        method=[method],
+        method_reason=[reason] if "reason" in parts else None,
+        continuity_correction=[cc],
+        control_rate=[control_rate],
+        treatment_rate=[treatment_rate],
+        difference=[diff],
+        relative_lift=[lift],
+        odds_ratio=[odds],
+        interval_method=[interval_method] if want_interval else None,
+        interval_confidence=confidence,
+        lower=[lower] if want_interval else None,
+        upper=[upper] if want_interval else None,
+        min_expected_count=[min_expected],
+        normal_approximation_ok=[normal_ok],
+        warnings=[notes],
+        summary=None if summary is None else [summary],
+        p_values=np.array([p_raw]),
+    )
+
+
+def _one_values(x1: float, n1: float, x2: float, n2: float, opts: Options, interval_alpha: float | None,
+                parts: frozenset[str]) -> tuple | None:
+    """The values of one comparison, in the order of :class:`TestColumns`' fields, or None (array code).
+
+    ``(statistic, p_value, log10_p_value, reject_null, method, method_reason, continuity_correction,
+    control_rate, treatment_rate, difference, relative_lift, odds_ratio, interval_method, interval_confidence,
+    lower, upper, min_expected_count, normal_approximation_ok, warnings, summary, p)``: each as the columns
+    hold it (None where undefined or not asked for; ``interval_method`` None when no interval was asked for),
+    and ``p`` the p-value with NaN where undefined.
+    """
     method = opts.method
     if opts.effect != "difference" or method not in _ONE_METHODS or not (0.0 < x1 < n1 and 0.0 < x2 < n2):
         return None
@@ -680,31 +735,11 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
     summary = None
     if want_summary:
         summary = _summaries(opts, confidence, (method,), (p1,), (p2,), (diff,), (lift,), (odds_out,), (lower_out,),
-                             (upper_out,), (p_out,), (log10p_out,), (reject,))
-    return TestColumns(
-        options=opts,
-        statistic=[stat if math.isfinite(stat) else None],
-        p_value=[p_out],
-        log10_p_value=[log10p_out],
-        reject_null=[reject],
-        method=[method],
-        method_reason=[reason] if "reason" in parts else None,
-        continuity_correction=[cc_applied],
-        control_rate=[p2],
-        treatment_rate=[p1],
-        difference=[diff],
-        relative_lift=[lift],
-        odds_ratio=[odds_out],
-        interval_method=[interval_method] if want_interval else None,
-        interval_confidence=confidence,
-        lower=[lower_out] if want_interval else None,
-        upper=[upper_out] if want_interval else None,
-        min_expected_count=[min_expected],
-        normal_approximation_ok=[min_expected >= EXPECTED_COUNT_THRESHOLD],
-        warnings=[tuple(notes)],
-        summary=summary,
-        p_values=np.array([p]),
-    )
+                             (upper_out,), (p_out,), (log10p_out,), (reject,))[0]
+    return (stat if math.isfinite(stat) else None, p_out, log10p_out, reject, method, reason, cc_applied, p2, p1,
+            diff, lift, odds_out, interval_method, confidence, lower_out if want_interval else None,
+            upper_out if want_interval else None, min_expected, min_expected >= EXPECTED_COUNT_THRESHOLD,
+            tuple(notes), summary, p)
 
 
 def _lists_from_arrays(a: TestArrays) -> TestColumns:
@@ -1080,9 +1115,7 @@ def _format_effect(effect: str, value: float | None, signed: bool = True) -> str
 def _summaries(opts: Options, confidence: float, methods, treatment_rates, control_rates, differences, lifts,
                odds_ratios, lowers, uppers, p_values, log10_p_values, rejects) -> list[str]:
     """Return the one-sentence summary of each comparison."""
-    conf = _level(confidence)
-    level = _level(opts.alpha)
-    null_text = _null_text(opts.effect, opts.alternative, opts.null_value)
+    conf, show, no_show = _summary_frame(opts, confidence)
     effect = opts.effect
     if effect == "difference":
         effect_texts = [f"a difference of {100.0 * d:+.2f} percentage points" for d in differences]
@@ -1108,8 +1141,6 @@ def _summaries(opts: Options, confidence: float, methods, treatment_rates, contr
         bounds = [f"{conf} upper bound {hi}{unit}" for hi in upper_texts]
     else:
         bounds = [f"{conf} CI {lo} to {hi}{unit}" for lo, hi in zip(lower_texts, upper_texts, strict=True)]
-    show = f"so the data show {null_text} at the {level} level"
-    no_show = f"so the data do not show {null_text} at the {level} level"
     out = []
     for method, tr, cr, effect_text, bound, p, log10p, reject in zip(
         methods, treatment_rates, control_rates, effect_texts, bounds, p_values, log10_p_values, rejects,
@@ -1124,6 +1155,18 @@ def _summaries(opts: Options, confidence: float, methods, treatment_rates, contr
             f"Treatment {100.0 * tr:.2f}% vs control {100.0 * cr:.2f}%: {effect_text} ({bound}); {verdict} ({name})."
         )
     return out
+
+
+@lru_cache(maxsize=256)
+def _summary_frame(opts: Options, confidence: float) -> tuple[str, str, str]:
+    """The words of a summary that depend on the options alone, worked out once per set of options.
+
+    ``(confidence level, "so the data show ... at the ... level", "so the data do not show ...")``.
+    """
+    null_text = _null_text(opts.effect, opts.alternative, opts.null_value)
+    level = _level(opts.alpha)
+    return (_level(confidence), f"so the data show {null_text} at the {level} level",
+            f"so the data do not show {null_text} at the {level} level")
 
 
 def _level(fraction: float) -> str:
