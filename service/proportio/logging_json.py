@@ -58,6 +58,11 @@ def _refresh_pid() -> None:
 os.register_at_fork(after_in_child=_refresh_pid)
 
 
+def process_id() -> int:
+    """This process's id, as ``os.getpid()`` gives it, without a system call."""
+    return _pid
+
+
 def log_fields(logger: logging.Logger, message: str, fields: dict) -> None:
     """Log ``message`` at INFO with ``fields``, as ``logger.info(message, extra=fields)`` would.
 

@@ -19,8 +19,9 @@ from typing import Any
 
 from flask import Blueprint, Flask, Response, current_app, g, request
 from prometheus_client import CONTENT_TYPE_LATEST, CollectorRegistry, Counter, Histogram, generate_latest
+from prometheus_client import values as prometheus_values
 
-from ..logging_json import log_fields
+from ..logging_json import log_fields, process_id
 from .problems import Problem
 from .registry import operation
 
@@ -34,6 +35,12 @@ EXACT_METHODS = frozenset({"fisher-exact", "boschloo-exact", "barnard-exact", "c
 HTTP_METHODS = frozenset({"GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS"})
 CORS_ALLOW_HEADERS = "Authorization, Content-Type, X-Request-ID"
 MAX_REQUEST_ID = 128
+
+if os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
+    # Under gunicorn each update of a counter asks the kernel for the process id, to notice a fork (four
+    # system calls per request). The id kept by logging_json (refreshed in every child a fork makes) is the
+    # same number; prometheus_client takes the function for it as an argument.
+    prometheus_values.ValueClass = prometheus_values.MultiProcessValue(process_identifier=process_id)
 
 REGISTRY = CollectorRegistry(auto_describe=True)
 REQUESTS = Counter("proportio_http_requests", "HTTP requests answered, by endpoint, HTTP method and status.",
