@@ -4,6 +4,7 @@
     python benchmarks/run_all.py                 # everything, about 3 minutes on 2 cores
     python benchmarks/run_all.py --quick         # a smoke run, well under a minute
     python benchmarks/run_all.py --only mn,exact # some sections: http, batch, mn, exact, startup
+    python benchmarks/run_all.py --only http --breakdown  # where the gap to the bare endpoint lies
 
 Absolute times drift on shared machines; a ratio of two timings taken minutes apart on the same machine
 holds much better, so every line prints ours, the reference, their ratio, the target and whether it is met.
@@ -14,6 +15,8 @@ http     POST /v1/tests served by the service's gunicorn command and configurati
          as tests/gunicorn_server.py starts it) against a bare Flask JSON endpoint (benchmarks/bare_app.py) under
          the same command, settings and worker count; both servers run at once and a real HTTP load
          generator (wrk if it is on PATH, else threads with http.client) alternates between them, A B A B.
+         With --breakdown, two more servers of the service join the rotation, one with its statistics
+         memoised and one without its request hooks (benchmarks/breakdown_apps.py).
 batch    POST /v1/batch with 1 to 100,000 comparisons end to end against a loop of statsmodels'
          proportions_ztest (benchmarks/bench_batch.py).
 mn       Miettinen-Nurminen score intervals, vectorised over 10,000 random tables, against statsmodels'
@@ -51,6 +54,11 @@ import numpy as np
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 SECTIONS = ("http", "batch", "mn", "exact", "startup")
 BARE_APP = "benchmarks.bare_app:create_app()"
+# --breakdown: the service with one part of its cost taken away (benchmarks/breakdown_apps.py).
+BREAKDOWN_APPS = {
+    "statistics memoised": "benchmarks.breakdown_apps:statistics_memoised()",
+    "without request hooks": "benchmarks.breakdown_apps:without_hooks()",
+}
 # The README's worked example: the body every HTTP request of the http section sends.
 TEST_BODY = {
     "control": {"successes": 412, "trials": 9630, "label": "current checkout"},
@@ -193,14 +201,15 @@ def run_http(args) -> None:
             f'wrk.method = "POST"\nwrk.body = {json.dumps(body.decode())}\n'
             'wrk.headers["Content-Type"] = "application/json"\n')
         servers = {}
+        apps = {"ours": None, "bare": BARE_APP, **(BREAKDOWN_APPS if args.breakdown else {})}
         try:
-            for name, app in (("ours", None), ("bare", BARE_APP)):
+            for name, app in apps.items():
                 servers[name] = start_server(app, workers)
             for _, _, url in servers.values():  # warm up: imports, first-request caches
                 python_round(url, body, 0.5, 2)
-            results: dict[str, list[dict]] = {"ours": [], "bare": []}
+            results: dict[str, list[dict]] = {name: [] for name in apps}
             for _ in range(rounds):
-                for name in ("ours", "bare"):
+                for name in apps:
                     url = servers[name][2]
                     results[name].append(wrk_round(url, script, seconds, connections) if tool == "wrk"
                                          else python_round(url, body, seconds, connections))
@@ -221,6 +230,15 @@ def run_http(args) -> None:
         lat_o = statistics.median(r[key] for r in ours)
         lat_b = statistics.median(r[key] for r in bare)
         row(f"{label} (median of rounds)", us(lat_o), us(lat_b), lat_b / lat_o)
+    for name in BREAKDOWN_APPS if args.breakdown else ():
+        part = results[name]
+        ratios = [a["rate"] / b["rate"] for a, b in zip(part, bare, strict=True)]
+        row(f"breakdown: ours, {name}", f"{statistics.median(r['rate'] for r in part):,.0f}", f"{rate_b:,.0f}",
+            statistics.median(ratios), note="rounds: " + ", ".join(f"{r:.2f}" for r in ratios)
+            + (f"; {sum(r['errors'] for r in part)} non-2xx" if any(r["errors"] for r in part) else ""))
+    if args.breakdown:
+        print("breakdown: the service with one part of its cost taken away (benchmarks/breakdown_apps.py); "
+              "diagnostics, not the service")
     print(f"load generator: {tool}; the client runs on the same {os.cpu_count()} CPUs, which narrows any gap")
 
 
@@ -457,6 +475,9 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--quick", action="store_true", help="shorten everything (a smoke run)")
     parser.add_argument("--only", default=",".join(SECTIONS), help=f"comma-separated sections of {SECTIONS}")
+    parser.add_argument("--breakdown", action="store_true",
+                        help="http section: also serve the service with its statistics memoised and without its "
+                             "request hooks, to show where the gap to the bare endpoint lies")
     parser.add_argument("--workers", type=int, default=os.cpu_count() or 1,
                         help="gunicorn workers of each server in the http section (default: one per CPU)")
     args = parser.parse_args(argv)

@@ -22,3 +22,29 @@ def test_quick_in_process_benchmarks_run_and_print_ratios():
     assert any(line.startswith("difference: per interval") for line in measured), done.stdout
     assert any(line.startswith("50 per group") for line in measured), done.stdout
     assert any(re.search(r"\s(yes|no)\s", line) for line in measured), done.stdout
+
+
+def test_breakdown_apps_answer_what_the_service_answers():
+    """The --breakdown servers differ from the service in cost only: the same /v1/tests answer."""
+    sys.path.insert(0, str(ROOT))
+    try:
+        from benchmarks import breakdown_apps
+
+        from proportio import operations
+        from proportio.api import create_app
+
+        body = {"control": {"successes": 412, "trials": 9630}, "treatment": {"successes": 471, "trials": 9598}}
+        expected = create_app().test_client().post("/v1/tests", json=body)
+        computed = operations.run_test
+        try:
+            memoised = breakdown_apps.statistics_memoised().test_client()
+            answers = [memoised.post("/v1/tests", json=body) for _ in range(2)]
+        finally:
+            operations.run_test = computed
+        bare_hooks = breakdown_apps.without_hooks().test_client().post("/v1/tests", json=body)
+    finally:
+        sys.path.remove(str(ROOT))
+    assert expected.status_code == 200
+    for answer in [*answers, bare_hooks]:
+        assert answer.status_code == 200 and answer.get_json() == expected.get_json()
+    assert "X-Request-ID" in expected.headers and "X-Request-ID" not in bare_hooks.headers
