@@ -48,3 +48,11 @@ def test_breakdown_apps_answer_what_the_service_answers():
     for answer in [*answers, bare_hooks]:
         assert answer.status_code == 200 and answer.get_json() == expected.get_json()
     assert "X-Request-ID" in expected.headers and "X-Request-ID" not in bare_hooks.headers
+
+
+def test_instruction_count_driver_serves_requests():
+    """benchmarks/instructions.py's in-process part (what valgrind runs) still calls the app."""
+    for which in ("ours", "bare"):
+        done = subprocess.run([sys.executable, str(ROOT / "benchmarks" / "instructions.py"), "--serve", which, "3"],
+                              cwd=ROOT, capture_output=True, text=True, timeout=120)
+        assert done.returncode == 0, done.stderr[-2000:]
