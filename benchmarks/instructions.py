@@ -2,12 +2,17 @@
 
     python benchmarks/instructions.py              # the service and the bare endpoint
     python benchmarks/instructions.py ours         # one of: ours, bare, statistics_memoised, without_hooks
+    python benchmarks/instructions.py --repeat 5 ours
 
-Runs this file under ``valgrind --tool=callgrind`` (which counts instructions, not seconds) twice per app,
-calling the WSGI app directly 100 and 1,100 times with the benchmark's body, and prints the difference
-divided by 1,000: the instructions one request costs, without interpreter start-up and imports. Repeat
-runs agree to about 2% (PYTHONHASHSEED is fixed). A diagnostic for comparing a change before and after;
-the bars themselves are measured by run_all.py. Needs valgrind (Debian: ``apt-get install valgrind``).
+Runs this file under ``valgrind --tool=callgrind`` (which counts instructions, not seconds), calling the
+WSGI app directly 100 and 1,100 times with the benchmark's body, and takes the difference divided by
+1,000: the instructions one request costs, without interpreter start-up and imports. It does so
+``--repeat`` times (default 3) per app and prints the median and the range. Single runs of the same code
+differ by up to about 5% (what a request does depends a little on time: the latency bucket, the log
+line's clock, when the timestamp is re-formatted), far less than wall-clock ratios on a shared machine,
+but enough that a change of a few per cent needs the medians of several runs before and after. A
+diagnostic; the bars themselves are measured by run_all.py. Needs valgrind (Debian: ``apt-get install
+valgrind``).
 """
 
 from __future__ import annotations
@@ -18,6 +23,7 @@ import os
 import pathlib
 import re
 import shutil
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -77,14 +83,18 @@ def main(argv: list[str]) -> int:
     if shutil.which("valgrind") is None:
         print("valgrind is not on PATH (Debian: apt-get install valgrind)", file=sys.stderr)
         return 2
+    repeat = 3
+    if argv[:1] == ["--repeat"]:
+        repeat, argv = int(argv[1]), argv[2:]
     chosen = argv or ["ours", "bare"]
     unknown = sorted(set(chosen) - set(APPS))
-    if unknown:
-        print(f"unknown app(s) {unknown}; choose from {', '.join(APPS)}", file=sys.stderr)
+    if unknown or repeat < 1:
+        print(f"unknown app(s) {unknown}; choose from {', '.join(APPS)}; --repeat needs 1 or more", file=sys.stderr)
         return 2
     for which in chosen:
-        per_request = (count_instructions(which, 1_100) - count_instructions(which, 100)) / 1_000
-        print(f"{which:<20} {per_request:>12,.0f} instructions per request (in-process, WSGI app called directly)")
+        runs = [(count_instructions(which, 1_100) - count_instructions(which, 100)) / 1_000 for _ in range(repeat)]
+        print(f"{which:<20} {statistics.median(runs):>12,.0f} instructions per request, median of {repeat} "
+              f"(range {min(runs):,.0f} to {max(runs):,.0f}; in-process, WSGI app called directly)")
     return 0
 
 

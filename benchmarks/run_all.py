@@ -235,7 +235,9 @@ def run_http(args) -> None:
         ratios = [a["rate"] / b["rate"] for a, b in zip(part, bare, strict=True)]
         row(f"breakdown: ours, {name}", f"{statistics.median(r['rate'] for r in part):,.0f}", f"{rate_b:,.0f}",
             statistics.median(ratios), note="rounds: " + ", ".join(f"{r:.2f}" for r in ratios)
-            + (f"; {sum(r['errors'] for r in part)} non-2xx" if any(r["errors"] for r in part) else ""))
+            + (f"; {sum(r['errors'] for r in part)} non-2xx" if any(r["errors"] for r in part) else "")
+            + (f"; socket errors: {[r['socket_errors'] for r in part]}" if any(r["socket_errors"] for r in part)
+               else ""))
     if args.breakdown:
         print("breakdown: the service with one part of its cost taken away (benchmarks/breakdown_apps.py); "
               "diagnostics, not the service")

@@ -51,7 +51,6 @@ def test_log_lines_carry_the_id_of_the_process_that_writes_them_after_a_fork():
     assert json.loads(line)["pid"] == child != os.getpid()
 
 
-
 def test_process_id_is_the_id_of_the_calling_process_after_a_fork():
     """prometheus_client's multiprocess values take it for os.getpid: a child must get its own id, or two
     workers would write one metrics file."""
@@ -68,6 +67,7 @@ def test_process_id_is_the_id_of_the_calling_process_after_a_fork():
     os.waitpid(child, 0)
     assert reported == actual == child
     assert logging_json.process_id() == os.getpid() != child
+
 
 def test_metric_handles_are_reused_per_kind_of_request_and_counted_like_labels(client):
     before = dict(observability._instrument_sets)

@@ -1,4 +1,4 @@
-"""One comparison computed with floats (twogroup._compare_one) equals the array code to the last bit.
+"""One comparison computed with floats (twogroup._one_values) equals the array code to the last bit.
 
 A single /v1/tests call takes the float path for the common cases; the same comparison inside a batch takes
 the array code. The contract says they are the same numbers, so every field must be identical: the floats

@@ -79,7 +79,7 @@ def _integral_floats(arr: np.ndarray) -> bool:
 def rate_difference(x1, n1, x2, n2):
     """Return ``x1/n1 - x2/n2`` computed from whichever of successes or failures are fewer.
 
-    ``twogroup._compare_one`` repeats this with floats: change both.
+    ``twogroup._one_values`` repeats this with floats: change both.
 
     Two rates near 1 differ by less than their rounding error allows (1 - 1e-11 is stored to about
     1e-16 absolute, which is 1e-5 of a difference of 1e-11); the failure rates carry the same difference
@@ -120,7 +120,7 @@ def normal_p_value_float(z: float, alternative: str) -> tuple[float, float]:
     """:func:`normal_p_value` of one float, to the last bit, with two ufunc calls instead of several array ops.
 
     The same scipy/numpy functions on the same values (``-abs`` and ``min`` with 0 are exact, as are the
-    array versions); the float path of one comparison (``twogroup._compare_one``) uses it.
+    array versions); the float path of one comparison (``twogroup._one_values``) uses it.
     """
     if alternative == "greater":
         log_p = float(special.log_ndtr(-z))

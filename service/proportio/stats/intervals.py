@@ -249,7 +249,7 @@ def _conditional_exact_bounds(x1, n1, x2, n2, z_lower, z_upper):
 def rate_estimates(x1, n1, x2, n2):
     """Return (p1, p2, difference, ratio, odds ratio) arrays, NaN where a quantity is undefined.
 
-    ``twogroup._compare_one`` repeats this (and the Wald bounds of :func:`difference_bounds`) with floats.
+    ``twogroup._one_values`` repeats this (and the Wald bounds of :func:`difference_bounds`) with floats.
     """
     p1 = x1 / n1
     p2 = x2 / n2

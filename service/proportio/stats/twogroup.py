@@ -2,7 +2,7 @@
 
 :func:`compare` is vectorised: it takes arrays of counts and one set of options and returns one
 :class:`TestResult` per comparison. A single comparison is a batch of one: :func:`compare_one` and a
-batch of one compute the commonest cases with Python floats (``_compare_one``) and everything else with the
+batch of one compute the commonest cases with Python floats (``_one_values``) and everything else with the
 array code, and the float path gives the array code's values to the last bit, so a batch and a single call
 never disagree.
 
@@ -75,7 +75,7 @@ MIN_DIFFERENCE_NULL = 1e-13
 # for the score intervals), the reason auto gives for its choice, and the summary sentence (which quotes
 # the interval, so it needs it). The tests, estimates, assumptions and warnings are always computed.
 OPTIONAL_PARTS = frozenset({"interval", "reason", "summary"})
-# Texts shared by the array code and the single-comparison path (_compare_one).
+# Texts shared by the array code and the single-comparison path (_one_values).
 _ADEQUATE_REASON = (
     f"every expected count under the null is at least {EXPECTED_COUNT_THRESHOLD:g} (the smallest is {{}}), so "
     "the normal approximation is adequate: pooled z-test"
@@ -290,11 +290,11 @@ def compare_one(
                           float(control_trials), opts, None, OPTIONAL_PARTS)
         if one is not None:
             # results_from_columns of the one comparison, without the columns.
-            (stat, p, log10p, reject, method, reason, cc, control_rate, treatment_rate, diff, lift, odds,
+            (stat, p, log10p, reject, used, reason, cc, control_rate, treatment_rate, diff, lift, odds,
              interval_method, confidence, lower, upper, min_expected, normal_ok, notes, summary, _) = one
             return TestResult(
                 statistic=stat, p_value=p, log10_p_value=log10p, alpha=opts.alpha, reject_null=reject,
-                alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=method,
+                alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=used,
                 method_reason=reason, continuity_correction=cc,
                 estimate=Estimate(control_rate=control_rate, treatment_rate=treatment_rate, difference=diff,
                                   relative_lift=lift, odds_ratio=odds),
@@ -893,7 +893,7 @@ def planned_methods(treatment_successes, treatment_trials, control_successes, co
 def _run_method(name: str, x1, n1, x2, n2, opts: Options):
     """Return (statistic, p, log10 p) arrays for the comparisons handled by one method.
 
-    ``_compare_one`` repeats the z-tests and chi-square with floats, operation for operation: change both.
+    ``_one_values`` repeats the z-tests and chi-square with floats, operation for operation: change both.
     """
     alt = opts.alternative
     if name in ("z-pooled", "chi-square"):
@@ -1027,7 +1027,7 @@ def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray],
               p) -> list[tuple[str, ...]]:
     """Return the cautions of each comparison (a shared empty tuple where there are none).
 
-    A caution that can apply to a table with every count strictly inside must be added to ``_compare_one``
+    A caution that can apply to a table with every count strictly inside must be added to ``_one_values``
     too (tests/unit/test_single_comparison_path.py fails until it is).
     """
     size = methods.shape[0]
@@ -1071,7 +1071,7 @@ def _warnings(opts: Options, methods: np.ndarray, groups: dict[str, np.ndarray],
 def _add_interval_warnings(warnings, opts: Options, methods, groups, x1, n1, x2, n2, lower, upper, p):
     """Add the cautions about the reported interval and undefined estimates to each comparison's warnings.
 
-    Like :func:`_warnings`: one that can apply with every count strictly inside belongs in ``_compare_one`` too.
+    Like :func:`_warnings`: one that can apply with every count strictly inside belongs in ``_one_values`` too.
 
     An exact test is reported with a score (or conditional) interval that does not invert it, so near the
     significance boundary the two can disagree; where they do, the warning says that the test decides.
