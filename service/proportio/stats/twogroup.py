@@ -289,19 +289,8 @@ def compare_one(
         one = _one_values(float(treatment_successes), float(treatment_trials), float(control_successes),
                           float(control_trials), opts, None, OPTIONAL_PARTS)
         if one is not None:
-            # results_from_columns of the one comparison, without the columns.
-            (stat, p, log10p, reject, used, reason, cc, control_rate, treatment_rate, diff, lift, odds,
-             interval_method, confidence, lower, upper, min_expected, normal_ok, notes, summary, _) = one
-            return TestResult(
-                statistic=stat, p_value=p, log10_p_value=log10p, alpha=opts.alpha, reject_null=reject,
-                alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=used,
-                method_reason=reason, continuity_correction=cc,
-                estimate=Estimate(control_rate=control_rate, treatment_rate=treatment_rate, difference=diff,
-                                  relative_lift=lift, odds_ratio=odds),
-                interval=TestInterval(interval_method, confidence, lower, upper),
-                assumptions=Assumptions(min_expected, EXPECTED_COUNT_THRESHOLD, normal_ok),
-                warnings=notes, summary=summary,
-            )
+            row, confidence, _ = one
+            return _test_result(opts, confidence, *row)
     return compare([treatment_successes], [treatment_trials], [control_successes], [control_trials], method=method,
                    alternative=alternative, null_value=null_value, effect=effect, alpha=alpha,
                    continuity_correction=continuity_correction)[0]
@@ -459,24 +448,28 @@ def results_from_columns(cols: TestColumns) -> list[TestResult]:
     opts = cols.options
     conf = cols.interval_confidence
     return [
-        TestResult(
-            statistic=stat, p_value=p, log10_p_value=log10p, alpha=opts.alpha, reject_null=reject,
-            alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=method,
-            method_reason=reason, continuity_correction=cc,
-            estimate=Estimate(control_rate=cr, treatment_rate=tr, difference=diff, relative_lift=lift,
-                              odds_ratio=odds),
-            interval=TestInterval(imethod, conf, lo, hi),
-            assumptions=Assumptions(min_exp, EXPECTED_COUNT_THRESHOLD, ok),
-            warnings=notes, summary=summary,
-        )
-        for (stat, p, log10p, reject, method, reason, cc, cr, tr, diff, lift, odds, imethod, lo, hi, min_exp, ok,
-             notes, summary) in zip(
+        _test_result(opts, conf, *row)
+        for row in zip(
             cols.statistic, cols.p_value, cols.log10_p_value, cols.reject_null, cols.method, cols.method_reason,
             cols.continuity_correction, cols.control_rate, cols.treatment_rate, cols.difference, cols.relative_lift,
             cols.odds_ratio, cols.interval_method, cols.lower, cols.upper, cols.min_expected_count,
             cols.normal_approximation_ok, cols.warnings, cols.summary, strict=True,
         )
     ]
+
+
+def _test_result(opts: Options, conf: float, stat, p, log10p, reject, method, reason, cc, cr, tr, diff, lift, odds,
+                 imethod, lo, hi, min_exp, ok, notes, summary) -> TestResult:
+    """One :class:`TestResult` from the values of one comparison, in the order of :class:`TestColumns`."""
+    return TestResult(
+        statistic=stat, p_value=p, log10_p_value=log10p, alpha=opts.alpha, reject_null=reject,
+        alternative=opts.alternative, null_value=opts.null_value, effect=opts.effect, method=method,
+        method_reason=reason, continuity_correction=cc,
+        estimate=Estimate(control_rate=cr, treatment_rate=tr, difference=diff, relative_lift=lift, odds_ratio=odds),
+        interval=TestInterval(imethod, conf, lo, hi),
+        assumptions=Assumptions(min_exp, EXPECTED_COUNT_THRESHOLD, ok),
+        warnings=notes, summary=summary,
+    )
 
 
 def _to_list(values: np.ndarray, undefined: np.ndarray) -> list:
@@ -596,8 +589,9 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
     one = _one_values(x1, n1, x2, n2, opts, interval_alpha, parts)
     if one is None:
         return None
+    row, confidence, p_raw = one
     (stat, p, log10p, reject, method, reason, cc, control_rate, treatment_rate, diff, lift, odds, interval_method,
-     confidence, lower, upper, min_expected, normal_ok, notes, summary, p_raw) = one
+     lower, upper, min_expected, normal_ok, notes, summary) = row
     want_interval = interval_method is not None
     return TestColumns(
         options=opts,
@@ -627,13 +621,12 @@ def _compare_one(x1: float, n1: float, x2: float, n2: float, opts: Options, inte
 
 def _one_values(x1: float, n1: float, x2: float, n2: float, opts: Options, interval_alpha: float | None,
                 parts: frozenset[str]) -> tuple | None:
-    """The values of one comparison, in the order of :class:`TestColumns`' fields, or None (array code).
+    """The values of one comparison, or None where the array code must compute it.
 
-    ``(statistic, p_value, log10_p_value, reject_null, method, method_reason, continuity_correction,
-    control_rate, treatment_rate, difference, relative_lift, odds_ratio, interval_method, interval_confidence,
-    lower, upper, min_expected_count, normal_approximation_ok, warnings, summary, p)``: each as the columns
-    hold it (None where undefined or not asked for; ``interval_method`` None when no interval was asked for),
-    and ``p`` the p-value with NaN where undefined.
+    ``(row, interval_confidence, p)``: ``row`` holds one value per list of :class:`TestColumns`, in the order
+    :func:`results_from_columns` zips them (``statistic`` ... ``summary``), each as the columns hold it (None
+    where undefined or not asked for; ``interval_method`` None when no interval was asked for); ``p`` is the
+    p-value with NaN where undefined.
     """
     method = opts.method
     if opts.effect != "difference" or method not in _ONE_METHODS or not (0.0 < x1 < n1 and 0.0 < x2 < n2):
@@ -736,10 +729,11 @@ def _one_values(x1: float, n1: float, x2: float, n2: float, opts: Options, inter
     if want_summary:
         summary = _summaries(opts, confidence, (method,), (p1,), (p2,), (diff,), (lift,), (odds_out,), (lower_out,),
                              (upper_out,), (p_out,), (log10p_out,), (reject,))[0]
-    return (stat if math.isfinite(stat) else None, p_out, log10p_out, reject, method, reason, cc_applied, p2, p1,
-            diff, lift, odds_out, interval_method, confidence, lower_out if want_interval else None,
-            upper_out if want_interval else None, min_expected, min_expected >= EXPECTED_COUNT_THRESHOLD,
-            tuple(notes), summary, p)
+    row = (stat if math.isfinite(stat) else None, p_out, log10p_out, reject, method, reason, cc_applied, p2, p1, diff,
+           lift, odds_out, interval_method, lower_out if want_interval else None,
+           upper_out if want_interval else None, min_expected, min_expected >= EXPECTED_COUNT_THRESHOLD,
+           tuple(notes), summary)
+    return row, confidence, p
 
 
 def _lists_from_arrays(a: TestArrays) -> TestColumns:
